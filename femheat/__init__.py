@@ -1,0 +1,3 @@
+"""femheat: finite-element heating and cooling of parts in furnaces."""
+
+__version__ = "0.1.0"

@@ -1,0 +1,929 @@
+"""The case file: what to heat, in what furnace, and when to stop.
+
+A case is a TOML file in SI units, with temperatures in degrees Celsius and times in seconds.
+:func:`load_case` reads a file and :func:`parse_case` checks an already parsed table; both return
+a frozen :class:`Case` or raise :class:`~femheat.errors.CaseError` whose one-line message names
+the place in the file, the bad value and a fix, e.g.::
+
+    furnace.htcc: unknown key; fix: did you mean 'htc'? valid keys here: temperature, ...
+    material.conductivity: must be > 0, got -36; fix: give the thermal conductivity in W/(m K) ...
+
+Example::
+
+    title = "Slab heated from one face"
+    [part]
+    model = "planar"
+    shape = "rectangle"
+    size = [0.04, 0.01]
+    [material]
+    density = 7850
+    conductivity = 36
+    specific_heat = [[20, 440], [600, 760], [900, 650]]
+    [furnace]
+    temperature = [[0, 20], [3600, 850]]
+    wall_temperature = 860
+    htc = 180
+    emissivity = 0.8
+    [faces.xmin]
+    condition = "insulated"
+    [faces.ymax]
+    condition = "convection"
+    htc = 10
+    ambient = 20
+    [initial]
+    temperature = 20
+    [target]
+    temperature = 830
+    [mesh]
+    size = 0.002
+    [[probes]]
+    name = "core"
+    point = [0.0, 0.005]
+
+Sections (required ones marked *):
+
+``title``
+    Free text.
+``[part]`` *
+    ``model``: ``"planar"`` (a 2D section of a long part), ``"axisymmetric"`` (x is the radius,
+    y the axis) or ``"solid"`` (3D). ``shape``: ``"rectangle"`` (2 sizes, planar or
+    axisymmetric) or ``"box"`` (3 sizes, solid). ``size``: the dimensions in m, all > 0.
+``[material]`` *
+    ``density`` in kg/m3; ``conductivity`` in W/(m K); ``specific_heat`` in J/(kg K); ``name``.
+    A property is a positive number or a table ``[[temperature_C, value], ...]`` of two or more
+    rows, temperatures strictly increasing, values > 0.
+``[furnace]`` *
+    ``temperature``: the gas temperature in C; ``wall_temperature``: the wall temperature seen
+    by radiation in C (optional); ``htc``: the convective coefficient in W/(m2 K), >= 0;
+    ``emissivity`` of the part surface, between 0 and 1. A schedule is a number or a table
+    ``[[time_s, value], ...]`` of one or more rows, times >= 0 and strictly increasing.
+``[faces.NAME]``
+    ``condition`` and the keys it uses. Faces not listed are exposed to the furnace.
+
+    ========== ============================================================================
+    furnace    exposed to the furnace (no other key)
+    insulated  no heat flow (no other key)
+    symmetry   no heat flow across a plane of symmetry (no other key)
+    convection ``htc`` (W/(m2 K)) and ``ambient`` (C) required; ``emissivity`` (default 0)
+               and ``wall`` (C, default: the ambient) for radiation
+    fixed      ``temperature`` (C, a schedule)
+    flux       ``flux`` (W/m2 into the part, a schedule, any sign)
+    ========== ============================================================================
+``[initial]`` *
+    ``temperature``: the uniform starting temperature in C.
+``[target]``
+    ``temperature`` in C that every point must reach; ``hold`` in s to keep running after
+    that (default 0). Without ``[target]`` the run marches to ``solver.end_time`` or steady state.
+``[mesh]``
+    ``size``: the element size in m (optional); ``element``: ``"P1"`` (default) or ``"P2"``.
+``[[probes]]``
+    ``name`` (letters, digits, ``_``, ``-``; unique) and ``point``: 3 coordinates in m for the
+    solid model, 2 otherwise.
+``[solver]``
+    ``end_time`` in s (optional); ``tolerance``: the relative local error per step, in
+    (0, 0.1], default 1e-4; ``max_step`` and ``first_step`` in s (optional).
+
+Every temperature must be above absolute zero (-273.15 C). Booleans are not numbers; integers
+are accepted where a real number is expected. Property and schedule tables are stored as tuples
+of ``(x, value)`` pairs of floats, single values as floats.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import re
+import tomllib
+import types
+from difflib import get_close_matches
+from functools import partial
+from pathlib import Path
+from typing import Annotated, Any, Literal, Union, get_args, get_origin
+
+from pydantic import (
+    BaseModel,
+    BeforeValidator,
+    ConfigDict,
+    Field,
+    ValidationError,
+    model_validator,
+)
+from pydantic.fields import FieldInfo
+
+from femheat.errors import CaseError
+
+__all__ = [
+    "ABSOLUTE_ZERO_C",
+    "CASE_KEYS",
+    "Case",
+    "Face",
+    "Furnace",
+    "Initial",
+    "Material",
+    "MeshSpec",
+    "Part",
+    "Probe",
+    "Property",
+    "Schedule",
+    "SolverSpec",
+    "Table",
+    "Target",
+    "load_case",
+    "parse_case",
+]
+
+ABSOLUTE_ZERO_C = -273.15
+"""Absolute zero in degrees Celsius; every temperature in a case must be above it."""
+
+Table = tuple[tuple[float, float], ...]
+"""Rows ``(x, value)`` with ``x`` strictly increasing (time in s or temperature in C)."""
+
+Schedule = float | Table
+"""A value against time: a constant, or rows ``(time_s, value)``."""
+
+Property = float | Table
+"""A material property: a constant, or rows ``(temperature_C, value)``."""
+
+
+# --- checks on single values ---------------------------------------------------------------
+
+
+class _Bad(ValueError):
+    """A value failed a check; ``at`` is the place below the field (list index or key)."""
+
+    def __init__(self, problem: str, fix: str | None = None, at: tuple[str | int, ...] = ()):
+        super().__init__(problem)
+        self.problem = problem
+        self.fix = fix
+        self.at = at
+
+
+def _num(x: float) -> str:
+    """A number as a person would write it: 120 rather than 120.0."""
+    if isinstance(x, int):
+        return str(x)
+    if x.is_integer() and abs(x) < 1e15:
+        return str(int(x))
+    return repr(x)
+
+
+def _show(value: Any) -> str:
+    """A short, one-line picture of an input value, TOML-like."""
+    if isinstance(value, bool):
+        text = "true (a boolean)" if value else "false (a boolean)"
+    elif isinstance(value, int | float):
+        text = _num(value)
+    else:
+        try:
+            text = repr(value)
+        except Exception:  # a value whose repr fails still deserves a message
+            text = f"a {type(value).__name__}"
+    text = text.replace("\n", " ")
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _number(value: Any) -> float:
+    """A finite real number; integers are fine, booleans and text are not."""
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        raise _Bad(f"expected a number, got {_show(value)}")
+    try:
+        x = float(value)
+    except OverflowError:
+        raise _Bad(f"number too large, got {_show(value)}") from None
+    if not math.isfinite(x):
+        raise _Bad(f"expected a finite number, got {_show(value)}")
+    return x
+
+
+def _positive(value: Any) -> float:
+    x = _number(value)
+    if not x > 0:
+        raise _Bad(f"must be > 0, got {_show(value)}")
+    return x
+
+
+def _non_negative(value: Any) -> float:
+    x = _number(value)
+    if x < 0:
+        raise _Bad(f"must be >= 0, got {_show(value)}")
+    return x
+
+
+def _fraction(value: Any) -> float:
+    x = _number(value)
+    if not 0 <= x <= 1:
+        raise _Bad(f"must be between 0 and 1, got {_show(value)}")
+    return x
+
+
+def _tolerance(value: Any) -> float:
+    x = _number(value)
+    if not 0 < x <= 0.1:
+        raise _Bad(f"must be > 0 and at most 0.1, got {_show(value)}")
+    return x
+
+
+def _above_absolute_zero(x: float, at: tuple[str | int, ...] = ()) -> float:
+    if x <= ABSOLUTE_ZERO_C:
+        raise _Bad(
+            f"{_num(x)} C is at or below absolute zero ({ABSOLUTE_ZERO_C} C)",
+            fix="give temperatures in degrees Celsius (not kelvin or a negative offset)",
+            at=at,
+        )
+    return x
+
+
+def _temperature(value: Any) -> float:
+    return _above_absolute_zero(_number(value))
+
+
+def _text(value: Any) -> str:
+    if not isinstance(value, str):
+        raise _Bad(f"expected text in quotes, got {_show(value)}")
+    return value
+
+
+def _probe_name(value: Any) -> str:
+    name = _text(value)
+    if not name:
+        raise _Bad("must not be empty", fix='give the probe a name, e.g. name = "core"')
+    if not re.fullmatch(r"[A-Za-z0-9_-]+", name):
+        tidy = re.sub(r"[^A-Za-z0-9_-]+", "_", name).strip("_") or "core"
+        raise _Bad(
+            f"may hold only letters, digits, _ and -, got {name!r}",
+            fix=f'rename it, e.g. name = "{tidy}"',
+        )
+    return name
+
+
+def _choice(options: tuple[str, ...], value: Any) -> str:
+    if isinstance(value, str) and value in options:
+        return value
+    listed = ", ".join(repr(option) for option in options)
+    close = get_close_matches(value, options, n=1) if isinstance(value, str) else []
+    hint = f"did you mean {close[0]!r}?" if close else "pick one of them"
+    raise _Bad(f"must be one of {listed}, got {_show(value)}", fix=hint)
+
+
+def _numbers(value: Any) -> tuple[float, ...]:
+    if not isinstance(value, list | tuple):
+        raise _Bad(f"expected a list of numbers, got {_show(value)}")
+    out = []
+    for i, item in enumerate(value):
+        try:
+            out.append(_number(item))
+        except _Bad as bad:
+            raise _Bad(bad.problem, at=(i,)) from None
+    return tuple(out)
+
+
+def _sizes(value: Any) -> tuple[float, ...]:
+    sizes = _numbers(value)
+    for i, x in enumerate(sizes):
+        if not x > 0:
+            raise _Bad(f"sizes must be > 0, got {_num(x)}", at=(i,))
+    return sizes
+
+
+def _point(value: Any) -> tuple[float, ...]:
+    point = _numbers(value)
+    if len(point) not in (2, 3):
+        raise _Bad(
+            f"expected 2 or 3 coordinates, got {len(point)}: {_show(value)}",
+            fix="give [x, y] in m for planar and axisymmetric models, [x, y, z] for solid",
+        )
+    return point
+
+
+def _rows(value: list | tuple, first: str, second: str) -> list[tuple[float, float]]:
+    """Read ``[[a, b], ...]`` as pairs of finite numbers; errors name the row."""
+    fix = f"write each row as [{first}, {second}]"
+    rows = []
+    for i, row in enumerate(value):
+        if not isinstance(row, list | tuple) or len(row) != 2:
+            raise _Bad(f"each row must be 2 numbers, got {_show(row)}", fix=fix, at=(i,))
+        try:
+            rows.append((_number(row[0]), _number(row[1])))
+        except _Bad as bad:
+            raise _Bad(f"{bad.problem} in row {_show(row)}", fix=fix, at=(i,)) from None
+    return rows
+
+
+def _schedule(value: Any, *, temperature: bool) -> float | Table:
+    """A constant or ``[[time_s, value], ...]``; temperatures must be above absolute zero."""
+    second = "temperature_C" if temperature else "value"
+    if not isinstance(value, list | tuple):
+        try:
+            x = _number(value)
+        except _Bad:
+            raise _Bad(
+                f"expected a number or a table [[time_s, {second}], ...], got {_show(value)}"
+            ) from None
+        return _above_absolute_zero(x) if temperature else x
+    if not value:
+        raise _Bad(
+            "the table is empty",
+            fix=f"give a single number, or rows [[time_s, {second}], ...]",
+        )
+    rows = _rows(value, "time_s", second)
+    for i, (t, v) in enumerate(rows):
+        if t < 0:
+            raise _Bad(
+                f"times must be >= 0, got t={_num(t)}",
+                fix="count time in seconds from the start of the run (t=0)",
+                at=(i,),
+            )
+        if i and t <= rows[i - 1][0]:
+            raise _Bad(
+                f"times must increase; got t={_num(t)} after t={_num(rows[i - 1][0])}",
+                fix="list the rows in order of time, each time larger than the one before",
+                at=(i,),
+            )
+        if temperature:
+            _above_absolute_zero(v, at=(i,))
+    return tuple(rows)
+
+
+def _property(value: Any) -> float | Table:
+    """A positive constant or ``[[temperature_C, value], ...]`` with two or more rows."""
+    if not isinstance(value, list | tuple):
+        try:
+            x = _number(value)
+        except _Bad:
+            raise _Bad(
+                "expected a positive number or a table [[temperature_C, value], ...], "
+                f"got {_show(value)}"
+            ) from None
+        if not x > 0:
+            raise _Bad(f"must be > 0, got {_show(value)}")
+        return x
+    if len(value) < 2:
+        raise _Bad(
+            f"a table needs at least 2 rows [temperature_C, value], got {len(value)}",
+            fix="give a single number for a constant, or two or more rows",
+        )
+    rows = _rows(value, "temperature_C", "value")
+    for i, (temp, v) in enumerate(rows):
+        _above_absolute_zero(temp, at=(i,))
+        if i and temp <= rows[i - 1][0]:
+            raise _Bad(
+                f"temperatures must increase; got T={_num(temp)} after T={_num(rows[i - 1][0])}",
+                fix="list the rows in order of temperature, without repeats",
+                at=(i,),
+            )
+        if not v > 0:
+            raise _Bad(
+                f"values must be > 0, got {_num(v)} at T={_num(temp)}",
+                fix="check the units and the sign of the value in this row",
+                at=(i,),
+            )
+    return tuple(rows)
+
+
+_Number = Annotated[float, BeforeValidator(_number)]
+_Positive = Annotated[float, BeforeValidator(_positive)]
+_NonNegative = Annotated[float, BeforeValidator(_non_negative)]
+_Fraction = Annotated[float, BeforeValidator(_fraction)]
+_Temperature = Annotated[float, BeforeValidator(_temperature)]
+_Text = Annotated[str, BeforeValidator(_text)]
+_TemperatureSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperature=True))]
+_ValueSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperature=False))]
+_Property = Annotated[Property, BeforeValidator(_property)]
+
+ModelKind = Literal["planar", "axisymmetric", "solid"]
+ShapeKind = Literal["rectangle", "box"]
+Condition = Literal["furnace", "insulated", "symmetry", "convection", "fixed", "flux"]
+ElementKind = Literal["P1", "P2"]
+
+
+def _one_of(kind: Any) -> BeforeValidator:
+    return BeforeValidator(partial(_choice, get_args(kind)))
+
+
+# --- the records ---------------------------------------------------------------------------
+
+
+class _Record(BaseModel):
+    model_config = ConfigDict(frozen=True, extra="forbid")
+
+
+_SIZE_LABELS = {"rectangle": "[width, height]", "box": "[x, y, z]"}
+_FOR_3D = '; for a 3D part use model = "solid" and shape = "box"'
+_SHAPE_FITS = {"rectangle": (2, ("planar", "axisymmetric")), "box": (3, ("solid",))}
+
+
+class Part(_Record):
+    """The part: which model, which built-in shape, and its dimensions in m."""
+
+    model: Annotated[ModelKind, _one_of(ModelKind)] = Field(
+        description="the model: 'planar', 'axisymmetric' or 'solid'", examples=['"planar"']
+    )
+    shape: Annotated[ShapeKind, _one_of(ShapeKind)] = Field(
+        description="the shape: 'rectangle' (2D) or 'box' (3D)", examples=['"rectangle"']
+    )
+    size: Annotated[tuple[float, ...], BeforeValidator(_sizes)] = Field(
+        description="the dimensions in m: [width, height] for a rectangle, [x, y, z] for a box",
+        examples=["[0.04, 0.01]"],
+    )
+
+    @model_validator(mode="after")
+    def _shape_fits_model(self) -> Part:
+        count, models = _SHAPE_FITS[self.shape]
+        if self.model not in models:
+            other = next(shape for shape, (_, fits) in _SHAPE_FITS.items() if self.model in fits)
+            raise _Bad(
+                f"shape {self.shape!r} does not fit model {self.model!r}; "
+                f"a {self.shape} needs model {' or '.join(repr(m) for m in models)}",
+                fix=f'use shape = "{other}" with {_SIZE_LABELS[other]}, or model = "{models[0]}"',
+                at=("shape",),
+            )
+        if len(self.size) != count:
+            raise _Bad(
+                f"a {self.shape} needs {count} sizes {_SIZE_LABELS[self.shape]}, "
+                f"got {len(self.size)}: {_show(list(self.size))}",
+                fix=f"give size = {_SIZE_LABELS[self.shape]} in m"
+                + (_FOR_3D if count == 2 else ""),
+                at=("size",),
+            )
+        return self
+
+
+class Material(_Record):
+    """Material properties; conductivity and specific heat may depend on temperature."""
+
+    density: _Positive = Field(description="the density in kg/m3", examples=["7850"])
+    conductivity: _Property = Field(
+        description="the thermal conductivity in W/(m K), a number or [[temperature_C, k], ...]",
+        examples=["36"],
+    )
+    specific_heat: _Property = Field(
+        description="the specific heat in J/(kg K), a number or [[temperature_C, c], ...]",
+        examples=["460"],
+    )
+    name: _Text = Field("", description="the material name", examples=['"C45 steel"'])
+
+
+class Furnace(_Record):
+    """The furnace atmosphere and walls seen by faces with the ``furnace`` condition."""
+
+    temperature: _TemperatureSchedule = Field(
+        description="the furnace gas temperature in C, a number or [[time_s, temperature_C], ...]",
+        examples=["850"],
+    )
+    wall_temperature: _TemperatureSchedule | None = Field(
+        None,
+        description="the furnace wall temperature in C for radiation (default: the gas)",
+        examples=["860"],
+    )
+    htc: _NonNegative = Field(
+        description="the convective heat transfer coefficient in W/(m2 K), >= 0",
+        examples=["180"],
+    )
+    emissivity: _Fraction = Field(
+        description="the emissivity of the part surface, between 0 and 1", examples=["0.8"]
+    )
+
+
+_FACE_KEYS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
+    # condition: (required keys, optional keys)
+    "furnace": ((), ()),
+    "insulated": ((), ()),
+    "symmetry": ((), ()),
+    "convection": (("htc", "ambient"), ("emissivity", "wall")),
+    "fixed": (("temperature",), ()),
+    "flux": (("flux",), ()),
+}
+
+
+class Face(_Record):
+    """The condition on one named face; only the keys its condition uses are set.
+
+    For ``convection``, ``emissivity`` defaults to 0 and ``wall`` to the ambient schedule.
+    """
+
+    condition: Annotated[Condition, _one_of(Condition)] = Field(
+        description="the condition: " + ", ".join(repr(c) for c in get_args(Condition)),
+        examples=['"insulated"'],
+    )
+    htc: _NonNegative | None = Field(
+        None, description="the heat transfer coefficient in W/(m2 K), >= 0", examples=["10"]
+    )
+    ambient: _TemperatureSchedule | None = Field(
+        None,
+        description="the ambient temperature in C, a number or [[time_s, temperature_C], ...]",
+        examples=["20"],
+    )
+    emissivity: _Fraction | None = Field(
+        None, description="the surface emissivity, between 0 and 1", examples=["0.8"]
+    )
+    wall: _TemperatureSchedule | None = Field(
+        None,
+        description="the temperature in C of the surroundings seen by radiation",
+        examples=["20"],
+    )
+    temperature: _TemperatureSchedule | None = Field(
+        None,
+        description="the face temperature in C, a number or [[time_s, temperature_C], ...]",
+        examples=["100"],
+    )
+    flux: _ValueSchedule | None = Field(
+        None,
+        description="the heat flux in W/m2 into the part, a number or [[time_s, flux], ...]",
+        examples=["5000"],
+    )
+
+    @model_validator(mode="before")
+    @classmethod
+    def _keys_fit_condition(cls, data: Any) -> Any:
+        if not isinstance(data, dict):
+            return data
+        condition = data.get("condition")
+        if not isinstance(condition, str) or condition not in _FACE_KEYS:
+            return data  # a bad condition is reported by the field check
+        if any(key not in cls.model_fields for key in data):
+            return data  # an unknown key is reported by extra="forbid", with a suggestion
+        required, optional = _FACE_KEYS[condition]
+        for key, value in data.items():
+            if key == "condition" or value is None or key in required + optional:
+                continue
+            users = [c for c, (req, opt) in _FACE_KEYS.items() if key in req + opt]
+            raise _Bad(
+                f"{key!r} does not apply to condition {condition!r}; "
+                f"it belongs to condition {' or '.join(repr(u) for u in users)}",
+                fix=f'remove {key}, or set condition = "{users[0]}"',
+                at=(key,),
+            )
+        for key in required:
+            if data.get(key) is None:
+                raise _Bad(
+                    f"missing; condition {condition!r} needs {' and '.join(required)}",
+                    fix=_add_fix(key, cls.model_fields[key], key),
+                    at=(key,),
+                )
+        if condition == "convection":
+            data = dict(data)
+            if data.get("emissivity") is None:
+                data["emissivity"] = 0.0
+            if data.get("wall") is None:
+                data["wall"] = data["ambient"]
+        return data
+
+
+class Initial(_Record):
+    """The uniform starting temperature."""
+
+    temperature: _Temperature = Field(
+        description="the starting temperature of the part in C", examples=["20"]
+    )
+
+
+class Target(_Record):
+    """The temperature every point must reach, and how long to go on after that."""
+
+    temperature: _Temperature = Field(
+        description="the temperature in C every point of the part must reach", examples=["830"]
+    )
+    hold: _NonNegative = Field(
+        0.0,
+        description="the time in s to keep running after every point reached the target, >= 0",
+        examples=["600"],
+    )
+
+
+class MeshSpec(_Record):
+    """Mesh controls."""
+
+    size: _Positive | None = Field(
+        None, description="the element size in m, > 0", examples=["0.002"]
+    )
+    element: Annotated[ElementKind, _one_of(ElementKind)] = Field(
+        "P1", description="the element: 'P1' (linear) or 'P2' (quadratic)", examples=['"P1"']
+    )
+
+
+class Probe(_Record):
+    """A named point whose temperature is recorded."""
+
+    name: Annotated[str, BeforeValidator(_probe_name)] = Field(
+        description="the probe name (letters, digits, _ and -)", examples=['"core"']
+    )
+    point: Annotated[tuple[float, ...], BeforeValidator(_point)] = Field(
+        description="the coordinates in m: [x, y], or [x, y, z] for the solid model",
+        examples=["[0.0, 0.005]"],
+    )
+
+
+class SolverSpec(_Record):
+    """Time stepping controls."""
+
+    end_time: _Positive | None = Field(
+        None, description="the time in s to stop at, > 0", examples=["7200"]
+    )
+    tolerance: Annotated[float, BeforeValidator(_tolerance)] = Field(
+        1e-4,
+        description="the relative local error allowed per step, in (0, 0.1]",
+        examples=["1e-4"],
+    )
+    max_step: _Positive | None = Field(
+        None, description="the largest time step in s, > 0", examples=["60"]
+    )
+    first_step: _Positive | None = Field(
+        None, description="the first time step in s, > 0", examples=["1"]
+    )
+
+
+class Case(_Record):
+    """A whole case, checked: every number in range, every table in order."""
+
+    title: _Text = Field("", description="the case title", examples=['"Slab heated"'])
+    part: Part = Field(description="the part")
+    material: Material = Field(description="the material")
+    furnace: Furnace = Field(description="the furnace")
+    faces: dict[str, Face] = Field(
+        default_factory=dict, description="face conditions, one [faces.NAME] table per face"
+    )
+    initial: Initial = Field(description="the starting state")
+    target: Target | None = Field(None, description="the target temperature")
+    mesh: MeshSpec = Field(default_factory=MeshSpec, description="mesh controls")
+    probes: list[Probe] = Field(
+        default_factory=list, description="probe points, one [[probes]] table each"
+    )
+    solver: SolverSpec = Field(default_factory=SolverSpec, description="time stepping controls")
+
+    @model_validator(mode="after")
+    def _parts_agree(self) -> Case:
+        if self.target is not None and self.target.temperature == self.initial.temperature:
+            raise _Bad(
+                f"target equals the initial temperature ({_num(self.target.temperature)} C); "
+                "nothing to heat or cool",
+                fix="set target.temperature above initial.temperature to heat, below it to cool",
+                at=("target", "temperature"),
+            )
+        dim = 3 if self.part.model == "solid" else 2
+        first_use: dict[str, int] = {}
+        for i, probe in enumerate(self.probes):
+            if len(probe.point) != dim:
+                axes = "[x, y, z]" if dim == 3 else "[x, y]"
+                raise _Bad(
+                    f"the {self.part.model} model needs {dim} coordinates {axes}, "
+                    f"got {len(probe.point)}: {_show(list(probe.point))}",
+                    fix=f"give point = {axes} in m",
+                    at=("probes", i, "point"),
+                )
+            if probe.name in first_use:
+                raise _Bad(
+                    f"duplicate probe name {probe.name!r} (also probes[{first_use[probe.name]}])",
+                    fix="give each probe its own name",
+                    at=("probes", i, "name"),
+                )
+            first_use[probe.name] = i
+        return self
+
+
+# --- places, keys and messages -------------------------------------------------------------
+
+
+def _bare(tp: Any) -> Any:
+    """Strip ``Annotated`` and ``| None`` from a type."""
+    while True:
+        origin = get_origin(tp)
+        if origin is Annotated:
+            tp = get_args(tp)[0]
+        elif origin in (Union, types.UnionType):
+            args = [a for a in get_args(tp) if a is not type(None)]
+            if len(args) != 1:
+                return tp
+            tp = args[0]
+        else:
+            return tp
+
+
+def _is_record(tp: Any) -> bool:
+    return isinstance(tp, type) and issubclass(tp, BaseModel)
+
+
+def _walk(loc: tuple[Any, ...]) -> tuple[str | None, FieldInfo | None, Any]:
+    """Follow ``loc`` through the schema: the last field passed, its info, the type reached."""
+    tp: Any = Case
+    name: str | None = None
+    info: FieldInfo | None = None
+    for step in loc:
+        tp = _bare(tp)
+        origin = get_origin(tp)
+        if _is_record(tp) and isinstance(step, str) and step in tp.model_fields:
+            name, info = step, tp.model_fields[step]
+            tp = info.annotation
+        elif origin is dict:
+            tp = get_args(tp)[1]
+        elif origin in (list, tuple) and get_args(tp):
+            tp = get_args(tp)[0]
+        else:
+            tp = None
+    return name, info, _bare(tp)
+
+
+def _dotted(loc: tuple[Any, ...]) -> str:
+    """``('faces', 'xmin', 'htc')`` -> ``faces.xmin.htc``; ``('probes', 1)`` -> ``probes[1]``."""
+    out = ""
+    for step in loc:
+        if isinstance(step, int) and not isinstance(step, bool):
+            out += f"[{step}]"
+            continue
+        key = str(step)
+        if not re.fullmatch(r"[A-Za-z0-9_-]+", key):
+            key = json.dumps(key)
+        out += f".{key}" if out else key
+    return out
+
+
+def _keys_of(record: type[BaseModel], prefix: str, out: dict[str, tuple[str, ...]]) -> None:
+    out[prefix] = tuple(record.model_fields)
+    for name, info in record.model_fields.items():
+        tp = _bare(info.annotation)
+        place = f"{prefix}.{name}" if prefix else name
+        if _is_record(tp):
+            _keys_of(tp, place, out)
+        elif get_origin(tp) is dict and _is_record(get_args(tp)[1]):
+            _keys_of(get_args(tp)[1], f"{place}.NAME", out)
+        elif get_origin(tp) is list and _is_record(get_args(tp)[0]):
+            _keys_of(get_args(tp)[0], place, out)
+
+
+CASE_KEYS: dict[str, tuple[str, ...]] = {}
+"""Valid keys per table: ``""`` the top level, ``"faces.NAME"`` any face, ``"probes"`` a probe."""
+_keys_of(Case, "", CASE_KEYS)
+
+
+def _add_fix(name: str, info: FieldInfo | None, where: str) -> str:
+    """How to add a missing key or table."""
+    tp = _bare(info.annotation) if info is not None else None
+    if _is_record(tp):
+        needed = [key for key, field in tp.model_fields.items() if field.is_required()]
+        return f"add a [{where}] table with {', '.join(needed)}"
+    if info is None:
+        return f"add {name}"
+    example = info.examples[0] if info.examples else "..."
+    return f"add {name} = {example} ({info.description})"
+
+
+def _give_fix(info: FieldInfo | None) -> str:
+    if info is not None and info.description:
+        return f"give {info.description}"
+    return "see the case file format in the femheat.case module documentation"
+
+
+def _one_line(where: str, problem: str, fix: str) -> CaseError:
+    return CaseError(where.replace("\n", " "), problem.replace("\n", " "), fix.replace("\n", " "))
+
+
+def _from_validation_error(exc: ValidationError) -> CaseError:
+    """The first problem found, as a CaseError naming its place; unknown keys come first."""
+    errors = exc.errors(include_url=False)
+    first = next((e for e in errors if e["type"] == "extra_forbidden"), errors[0])
+    loc = tuple(first["loc"])
+    kind = first["type"]
+    value = first.get("input")
+    bad = (first.get("ctx") or {}).get("error")
+    if isinstance(bad, _Bad):
+        loc += bad.at
+        _, info, _ = _walk(loc)
+        return _one_line(_dotted(loc), bad.problem, bad.fix or _give_fix(info))
+    where = _dotted(loc)
+    name, info, tp = _walk(loc)
+    if kind == "extra_forbidden":
+        _, _, parent = _walk(loc[:-1])
+        valid = list(parent.model_fields) if _is_record(parent) else []
+        close = get_close_matches(str(loc[-1]), valid, n=1)
+        hint = f"did you mean {close[0]!r}?" if close else "remove it or correct the spelling;"
+        return _one_line(where, "unknown key", f"{hint} valid keys here: {', '.join(valid)}")
+    if kind == "invalid_key":
+        return _one_line(where, f"keys must be text, got {_show(value)}", "use a text key")
+    if kind == "missing":
+        return _one_line(where, "missing", _add_fix(str(loc[-1]), info, where))
+    if kind in ("model_type", "model_attributes_type", "dict_type"):
+        if _is_record(tp):
+            fix = f"write [{where}] as a table with keys {', '.join(tp.model_fields)}"
+        else:
+            fix = f"write one [{where}.NAME] table per entry"
+        return _one_line(where, f"expected a table, got {_show(value)}", fix)
+    if kind in ("list_type", "tuple_type"):
+        return _one_line(
+            where,
+            f"expected a list, got {_show(value)}",
+            f"write one [[{where}]] table (double brackets) per entry"
+            if get_origin(tp) is list
+            else _give_fix(info),
+        )
+    message = str(first.get("msg", "invalid value"))
+    return _one_line(where, f"{message}, got {_show(value)}", _give_fix(info))
+
+
+# --- entry points --------------------------------------------------------------------------
+
+
+def parse_case(data: dict, source: str = "<case>") -> Case:
+    """Check an already parsed case table and build the :class:`Case`.
+
+    Args:
+        data: the table as read from TOML (nested dicts and lists).
+        source: a name for the input (the file path), used for errors about the whole input.
+
+    Returns:
+        The validated, frozen case.
+
+    Raises:
+        CaseError: on any problem, naming the dotted place, the bad value and a fix.
+    """
+    if not isinstance(data, dict):
+        raise CaseError(
+            source,
+            f"expected a table of sections, got {_show(data)}",
+            "write the case as TOML tables [part], [material], [furnace], [initial]",
+        )
+    if not data:
+        raise CaseError(
+            source,
+            "the case is empty",
+            "write at least the tables [part], [material], [furnace] and [initial]; "
+            "see the example in the femheat.case module documentation",
+        )
+    try:
+        return Case.model_validate(data)
+    except ValidationError as exc:
+        try:
+            error = _from_validation_error(exc)
+        except Exception:  # never let a bug in the message hide the problem
+            first = exc.errors(include_url=False)[0]
+            error = _one_line(
+                source,
+                f"{_dotted(tuple(first['loc']))}: {first.get('msg')}",
+                "see the case file format in the femheat.case module documentation",
+            )
+    except Exception as exc:  # last line of defence: the case edge raises CaseError only
+        error = _one_line(
+            source,
+            f"could not read the case ({type(exc).__name__}: {exc})",
+            "see the case file format in the femheat.case module documentation",
+        )
+    raise error from None
+
+
+_AT = re.compile(
+    r"^(?P<msg>.*?)\s*\(at (?:line (?P<line>\d+), column (?P<col>\d+)|end of document)\)$"
+)
+
+
+def _syntax_error(source: str, exc: tomllib.TOMLDecodeError) -> CaseError:
+    text = str(exc).replace("\n", " ")
+    match = _AT.match(text)
+    where = source
+    if match:
+        text = match["msg"]
+        where += f" line {match['line']}, column {match['col']}" if match["line"] else " at the end"
+    return _one_line(where, text, "check the TOML syntax near that line")
+
+
+def load_case(path: str | os.PathLike) -> Case:
+    """Read and check a TOML case file.
+
+    Args:
+        path: the case file.
+
+    Returns:
+        The validated, frozen case.
+
+    Raises:
+        CaseError: if the file is missing, unreadable, not TOML, or describes a bad case.
+    """
+    try:
+        source = os.fspath(path)
+    except TypeError:
+        raise CaseError("", f"expected a file path, got {_show(path)}", "pass a path") from None
+    try:
+        raw = Path(source).read_bytes()
+    except FileNotFoundError:
+        raise CaseError(
+            source, "no such file", f"check the path (relative to {Path.cwd()})"
+        ) from None
+    except IsADirectoryError:
+        raise CaseError(source, "is a directory", "give the path of a .toml case file") from None
+    except OSError as exc:
+        raise _one_line(
+            source,
+            f"cannot read the file ({exc.strerror or exc})",
+            "check that the file exists and that you may read it",
+        ) from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise CaseError(
+            source,
+            f"not UTF-8 text (byte {raw[exc.start]:#04x} at offset {exc.start})",
+            "save the case file as UTF-8 text",
+        ) from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise _syntax_error(source, exc) from None
+    return parse_case(data, source=source)

@@ -1,0 +1,176 @@
+"""Command line: ``femheat run CASE --out DIR``, ``femheat demo``, ``femheat check CASE``.
+
+Thin layer over the library. Bad input prints one line naming the place and the fix and exits
+with code 2; no traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import logging
+import sys
+from importlib import resources
+from pathlib import Path
+
+from . import __version__
+from .errors import CaseError, FemheatError
+
+__all__ = ["main"]
+
+CAUTION = (
+    "Caution: results are estimates. Confirm with thermocouples on the part. The applicable "
+    "code, qualified procedures and licensed practice govern heat treatment of pressure parts "
+    "and certified work."
+)
+
+
+def _parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="femheat",
+        description="Finite-element heating and cooling of parts in furnaces: when the whole "
+        "part reaches temperature, and where the last point is.",
+        epilog=CAUTION,
+    )
+    p.add_argument("--version", action="version", version=f"femheat {__version__}")
+    sub = p.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    r = sub.add_parser("run", help="run a case file and write results to a folder")
+    r.add_argument("case", help="case file (TOML)")
+    r.add_argument("--out", help="results folder (default: <case name>_results)")
+    r.add_argument("--quiet", action="store_true", help="print only the one-line result")
+
+    d = sub.add_parser("demo", help="run the built-in demonstration case")
+    d.add_argument("--out", default="femheat_demo", help="results folder (default: %(default)s)")
+    d.add_argument("--quiet", action="store_true", help="print only the one-line result")
+
+    c = sub.add_parser("check", help="check a case file and its mesh without running it")
+    c.add_argument("case", help="case file (TOML)")
+    return p
+
+
+def demo_case_text() -> str:
+    """The built-in demonstration case file (TOML)."""
+    return resources.files("femheat").joinpath("data/demo.toml").read_text(encoding="utf-8")
+
+
+def _print_result(result, out: Path, console, quiet: bool) -> None:
+    from .output.summary import hours_minutes
+
+    tw = result.target
+    p = result.problem
+    if tw is not None and tw.reached:
+        pt = ", ".join(f"{1000 * v:.1f}" for v in tw.last_point)
+        line = (
+            f"through at {tw.target:g} C after {hours_minutes(tw.time)} h:min "
+            f"({tw.time:.0f} s); last point ({pt}) mm"
+        )
+    elif tw is not None:
+        line = f"NOT REACHED: {result.reason}"
+    else:
+        line = f"finished at t = {result.end_time:.6g} s ({result.reason})"
+    if quiet:
+        console.print(line)
+        return
+    axes = "r, z" if p.part_model == "axisymmetric" else ("x, y" if p.mesh.dim == 2 else "x, y, z")
+    console.print(f"[bold]{p.title or 'femheat run'}[/bold]")
+    console.print(
+        f"  mesh: {p.mesh.nodes} nodes, {p.mesh.cells.shape[0]} cells; "
+        f"{result.stats.steps} steps ({result.stats.rejected} rejected) in {result.wall_s:.1f} s"
+    )
+    if tw is not None and tw.reached:
+        console.print(
+            f"  [bold green]time to target[/bold green] {tw.target:g} C: "
+            f"{hours_minutes(tw.time)} h:min ({tw.time:.0f} s)"
+        )
+        pt = ", ".join(f"{1000 * v:.1f}" for v in tw.last_point)
+        console.print(f"  last point to reach it ({axes}): ({pt}) mm")
+    elif tw is not None:
+        console.print(f"  [bold red]target not reached[/bold red]: {result.reason}")
+    else:
+        console.print(f"  finished at t = {result.end_time:.6g} s: {result.reason}")
+    h = result.history
+    console.print(
+        f"  largest surface-to-core difference (max - min over the part): "
+        f"{h.largest_spread:.1f} K at {hours_minutes(h.largest_spread_time)} h:min"
+    )
+    for i, name in enumerate(result.probes.names):
+        ct = result.probes.crossing[i]
+        when = f"reached target at {hours_minutes(ct)} h:min" if ct == ct else "target not reached"
+        console.print(f"  probe {name}: {when}")
+    e = result.energy
+    console.print(
+        f"  energy balance: heat in {e.total_in:.4g}, stored {e.stored:.4g} "
+        f"({'J/m' if p.part_model == 'planar' else 'J'}), error {100 * e.relative_error:.3f} %"
+    )
+    for w in result.warnings:
+        console.print(f"  [yellow]warning:[/yellow] {w}")
+    console.print(f"  results in {out}/ (summary.json, history.csv)")
+    console.print(f"[dim]{CAUTION}[/dim]")
+
+
+def _run_case(case, out: Path, console, quiet: bool) -> int:
+    from .output.summary import write_history, write_summary
+    from .problem import build_problem
+    from .run import run_problem
+
+    problem = build_problem(case)
+    result = run_problem(problem)
+    write_summary(out, result)
+    write_history(out, result)
+    _print_result(result, out, console, quiet)
+    return 0
+
+
+def _check(case, console) -> int:
+    from .problem import build_problem
+
+    problem = build_problem(case)
+    m = problem.mesh
+    console.print(f"[bold]{problem.title or 'case'}[/bold]: the case file is valid")
+    console.print(
+        f"  {problem.part_model} {problem.shape} {list(problem.extents)} m; mesh {m.nodes} nodes, "
+        f"{m.cells.shape[0]} cells, smallest quality {m.quality().min():.2f}"
+    )
+    for g in problem.model.faces:
+        console.print(f"  face {g.name}: {type(g.condition).__name__}")
+    return 0
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point; returns the exit code (0 ok, 1 run failed, 2 bad input)."""
+    from rich.console import Console
+
+    args = _parser().parse_args(argv)
+    console = Console(highlight=False, soft_wrap=True)
+    err = Console(stderr=True, highlight=False, soft_wrap=True)
+    logging.basicConfig(level=logging.ERROR, format="femheat: %(levelname)s: %(message)s")
+    from .case import load_case, parse_case
+
+    try:
+        if args.command == "demo":
+            import tomllib
+
+            text = demo_case_text()
+            out = Path(args.out)
+            out.mkdir(parents=True, exist_ok=True)
+            (out / "demo_case.toml").write_text(text, encoding="utf-8")
+            case = parse_case(tomllib.loads(text), source="demo case")
+            return _run_case(case, out, console, args.quiet)
+        case = load_case(args.case)
+        if args.command == "check":
+            return _check(case, console)
+        out = Path(args.out) if args.out else Path(f"{Path(args.case).stem}_results")
+        return _run_case(case, out, console, args.quiet)
+    except CaseError as exc:
+        err.print(f"error: {exc}", markup=False)
+        return 2
+    except FemheatError as exc:
+        err.print(f"femheat failed: {exc}", markup=False)
+        return 1
+    except KeyboardInterrupt:
+        err.print("interrupted", markup=False)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

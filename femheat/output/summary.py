@@ -1,0 +1,149 @@
+"""summary.json and history.csv of a run."""
+
+from __future__ import annotations
+
+import io
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+
+from .. import __version__
+from ..run import RunResult
+from .files import atomic_write_text
+
+__all__ = ["summary_dict", "write_summary", "write_history", "hours_minutes"]
+
+CAUTION = (
+    "Estimates only. Confirm with thermocouples on the part; the applicable code, qualified "
+    "procedures and licensed practice govern heat treatment of pressure parts and certified work."
+)
+
+
+def hours_minutes(seconds: float | None) -> str | None:
+    """Format seconds as 'H:MM' (h:min), rounding to the nearest minute."""
+    if seconds is None or not math.isfinite(seconds):
+        return None
+    minutes = int(round(seconds / 60.0))
+    return f"{minutes // 60}:{minutes % 60:02d}"
+
+
+def _num(x):
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def summary_dict(result: RunResult, complete: bool = True) -> dict:
+    """The machine-readable summary of a run (SI units, temperatures in C)."""
+    p = result.problem
+    tw = result.target
+    mesh = p.mesh
+    per = "J per metre depth" if p.part_model == "planar" else "J"
+    target = {"reached": False, "time_s": None}
+    if tw is not None:
+        last = tw.last_point
+        lag = tw.lagging(result.final)
+        target = {
+            "temperature_C": tw.target,
+            "mode": "heating" if tw.sense > 0 else "cooling",
+            "reached": tw.reached,
+            "time_s": _num(tw.time),
+            "time_h_min": hours_minutes(tw.time),
+            "hold_s": p.target.hold,
+            "last_point": last,
+            "lagging_point_at_end": [float(v) for v in mesh.points[lag]],
+            "lagging_temperature_at_end_C": float(result.final[lag]),
+        }
+    probes = []
+    for i, name in enumerate(result.probes.names):
+        probes.append(
+            {
+                "name": name,
+                "point": [float(v) for v in p.probe_points[i]],
+                "final_C": _num(result.probes.values(result.final)[i]),
+                "time_to_target_s": _num(result.probes.crossing[i]),
+            }
+        )
+    e = result.energy
+    q = mesh.quality()
+    stats = result.stats
+    return {
+        "femheat_version": __version__,
+        "title": p.title,
+        "complete": complete,
+        "status": result.status,
+        "reason": result.reason,
+        "target": target,
+        "part": {
+            "model": p.part_model,
+            "shape": p.shape,
+            "size_m": list(p.extents),
+            "volume_m3": p.model.volume,
+            "volume_unit": "m3 per metre depth" if p.part_model == "planar" else "m3",
+        },
+        "mesh": {
+            "nodes": int(mesh.nodes),
+            "cells": int(mesh.cells.shape[0]),
+            "element": "P1",
+            "size_m": mesh.size,
+            "faces": {g.name: type(g.condition).__name__.lower() for g in p.model.faces},
+            "min_quality": float(q.min()),
+        },
+        "solver": {
+            "steps": stats.steps,
+            "rejected_steps": stats.rejected,
+            "newton_iterations": stats.newton_iterations,
+            "factorizations": stats.factorizations,
+            "linear_solves": stats.linear_solves,
+            "tolerance": p.settings.tolerance,
+            "end_time_s": result.end_time,
+            "settled": result.settled,
+            "wall_s": result.wall_s,
+        },
+        "temperatures": {
+            "initial_C": p.initial_c,
+            "final_min_C": float(result.final.min()),
+            "final_max_C": float(result.final.max()),
+            "final_mean_C": p.model.mean_temperature(result.final),
+            "largest_spread_C": result.history.largest_spread,
+            "largest_spread_time_s": result.history.largest_spread_time,
+        },
+        "energy": {
+            "unit": per,
+            "heat_in": e.total_in,
+            "stored": e.stored,
+            "relative_error": e.relative_error,
+            "by_face": dict(e.heat_in),
+        },
+        "probes": probes,
+        "warnings": list(result.warnings),
+        "caution": CAUTION,
+    }
+
+
+def _plain(obj):
+    """JSON fallback for numpy scalars and arrays."""
+    if isinstance(obj, np.generic):
+        return obj.item()
+    if isinstance(obj, np.ndarray):
+        return obj.tolist()
+    raise TypeError(f"cannot write {type(obj).__name__} to JSON")
+
+
+def write_summary(folder: str | Path, result: RunResult, complete: bool = True) -> Path:
+    data = summary_dict(result, complete)
+    text = json.dumps(data, indent=2, default=_plain, allow_nan=False)
+    return atomic_write_text(Path(folder) / "summary.json", text + "\n")
+
+
+def write_history(folder: str | Path, result: RunResult) -> Path:
+    h = result.history
+    buf = io.StringIO()
+    buf.write(",".join(h.columns) + "\n")
+    rows = np.asarray(h.rows, dtype=float)
+    for row in rows:
+        buf.write(",".join(f"{v:.10g}" for v in row) + "\n")
+    return atomic_write_text(Path(folder) / "history.csv", buf.getvalue())

@@ -1,0 +1,307 @@
+"""Adaptive implicit time marching of the heat balance: a generator of accepted steps.
+
+Scheme: one backward Euler step, then TR-BDF2 (trapezoidal stage to t + gamma h, BDF2 stage
+to t + h, gamma = 2 - sqrt 2; L-stable, second order; Bank et al. 1985, Hosea & Shampine 1996).
+Both TR-BDF2 stages and the Euler step solve the same kind of equation for T:
+
+    m a (H(T) - H*) + K phi(T) - F(T, t) = 0,
+
+with a = 1/h (Euler) or a = 2/(gamma h) (both TR-BDF2 stages) and H* from earlier values.
+The local error of a step is estimated from the enthalpy rates at t, t + gamma h and t + h,
+filtered through (I - gamma h/2 J)^-1 (Shampine's filter) and measured in kelvin against
+``tolerance * span``. Newton's method works on the Kirchhoff form (Jacobian K + diag), reusing
+one sparse factorisation while it converges (chord iterations) and refactoring when the
+diagonal has drifted or convergence slows. Steps never cross a schedule breakpoint.
+
+Nothing here opens a file or draws: consumers iterate over `Marcher` and observe the `Step`s.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.sparse.linalg import splu
+
+from .errors import SolverError
+from .model import Model
+
+__all__ = ["StepSettings", "Step", "SolverStats", "Marcher", "GAMMA"]
+
+GAMMA = 2.0 - math.sqrt(2.0)
+_ERR_CONST = abs((-3.0 * GAMMA**2 + 4.0 * GAMMA - 2.0) / (12.0 * (2.0 - GAMMA)))
+_W0 = 1.0 / (2.0 * (2.0 - GAMMA))  # TR-BDF2 quadrature weights of the face heat flow
+_W1 = GAMMA / 2.0
+
+
+@dataclass(frozen=True)
+class StepSettings:
+    """Time-step control.
+
+    Args:
+        span: temperature range of the problem, K; tolerances are fractions of it.
+        tolerance: allowed local error per step as a fraction of `span`.
+        first_step: s, size of the first (backward Euler) step.
+        max_step: s, upper bound on the step (None: none).
+        breakpoints: s, times the march must land on (schedule corners).
+        end_time: s, stop here (None: until the consumer stops).
+        max_steps: safety limit on accepted steps.
+    """
+
+    span: float
+    tolerance: float = 1e-4
+    first_step: float = 1e-3
+    max_step: float | None = None
+    breakpoints: tuple[float, ...] = ()
+    end_time: float | None = None
+    max_steps: int = 200_000
+
+
+@dataclass(frozen=True)
+class Step:
+    """One accepted step.
+
+    Attributes:
+        times: (t0, t1) or (t0, t0 + gamma h, t1), s.
+        states: nodal temperatures (C) at `times`.
+        rate: dT/dt at t1 per node, K/s.
+        heat_in: face name -> heat into the part during the step, J (planar: per m depth).
+        scheme: "euler" or "trbdf2".
+    """
+
+    index: int
+    times: tuple[float, ...]
+    states: tuple[np.ndarray, ...]
+    rate: np.ndarray
+    heat_in: dict[str, float]
+    scheme: str
+
+    @property
+    def t0(self) -> float:
+        return self.times[0]
+
+    @property
+    def t1(self) -> float:
+        return self.times[-1]
+
+    @property
+    def start(self) -> np.ndarray:
+        return self.states[0]
+
+    @property
+    def end(self) -> np.ndarray:
+        return self.states[-1]
+
+    def interpolate(self, t: float) -> np.ndarray:
+        """Temperatures at t inside the step (quadratic through the stage values)."""
+        return interpolate_states(self.times, self.states, t)
+
+
+def interpolate_states(times, states, t):
+    """Lagrange interpolation through 2 or 3 (time, field) pairs."""
+    out = np.zeros_like(states[0])
+    for i, (ti, yi) in enumerate(zip(times, states, strict=True)):
+        w = 1.0
+        for j, tj in enumerate(times):
+            if j != i:
+                w *= (t - tj) / (ti - tj)
+        out = out + w * yi
+    return out
+
+
+@dataclass
+class SolverStats:
+    """Counters of the work done by the march."""
+
+    steps: int = 0
+    rejected: int = 0
+    newton_iterations: int = 0
+    factorizations: int = 0
+    linear_solves: int = 0
+    largest_newton_correction_K: float = 0.0
+
+
+class _NewtonFailed(Exception):
+    pass
+
+
+@dataclass
+class _Factor:
+    lu: object
+    diag: np.ndarray
+
+
+@dataclass
+class Marcher:
+    """Iterate to march `model` from `initial` (C per node) under `settings`.
+
+    The consumer may change `end_time` while iterating (e.g. to add a hold after the target).
+    """
+
+    model: Model
+    initial: np.ndarray
+    settings: StepSettings
+    stats: SolverStats = field(default_factory=SolverStats)
+
+    def __post_init__(self):
+        self.end_time = self.settings.end_time
+        m = self.model
+        self._free = m.free_nodes
+        self._kff = m.stiffness[self._free][:, self._free].tocsc()
+        self._factor: _Factor | None = None
+        self._atol = self.settings.tolerance * self.settings.span
+        self._newton_tol = 1e-2 * self._atol
+
+    # -- linear algebra ----------------------------------------------------------------------
+    def _factorize(self, diag: np.ndarray) -> _Factor:
+        mat = (self._kff + sp.diags(diag, format="csc")).tocsc()
+        lu = splu(
+            mat, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True}
+        )
+        self.stats.factorizations += 1
+        return _Factor(lu, diag.copy())
+
+    def _solve(self, rhs: np.ndarray) -> np.ndarray:
+        self.stats.linear_solves += 1
+        return self._factor.lu.solve(rhs)
+
+    # -- one implicit stage ------------------------------------------------------------------
+    def _stage(self, guess: np.ndarray, t: float, a: float, hstar: np.ndarray) -> np.ndarray:
+        """Solve m a (H(T) - H*) + K phi(T) - F(T, t) = 0 for T (C); returns T."""
+        m, mat, free = self.model, self.model.material, self._free
+        temp = guess.copy()
+        if m.fixed_nodes.size:
+            temp[m.fixed_nodes] = m.fixed_values(t)
+        previous = None
+        fresh = False
+        for _ in range(12):
+            flow, dflow = m.boundary_flow(temp, t)
+            resid = m.volumes * a * (mat.enthalpy(temp) - hstar)
+            resid += m.stiffness @ mat.kirchhoff(temp) - flow
+            k = mat.conductivity(temp[free])
+            diag = (m.volumes[free] * a * mat.capacity(temp[free]) - dflow[free]) / k
+            if (
+                self._factor is None
+                or np.max(np.abs(diag - self._factor.diag) / self._factor.diag) > 0.25
+            ):
+                self._factor = self._factorize(diag)
+                fresh = True
+            step = self._solve(-resid[free]) / k
+            temp[free] += step
+            self.stats.newton_iterations += 1
+            norm = float(np.max(np.abs(step))) if step.size else 0.0
+            if not np.isfinite(norm):
+                raise _NewtonFailed("non-finite Newton update")
+            if norm <= self._newton_tol:
+                return temp
+            if previous is not None:
+                rate = norm / previous
+                if rate < 1.0 and rate / (1.0 - rate) * norm <= self._newton_tol:
+                    return temp
+                if rate > 0.5:
+                    if fresh and rate >= 1.0:
+                        raise _NewtonFailed(f"Newton diverges (contraction {rate:.2f})")
+                    self._factor = None  # refactor at the current state next iteration
+                    fresh = False
+            previous = norm
+        raise _NewtonFailed(f"Newton did not converge (last correction {norm:.3g} K)")
+
+    # -- the march ----------------------------------------------------------------------------
+    def _next_break(self, t: float) -> float:
+        cands = [b for b in self.settings.breakpoints if b > t * (1 + 1e-12) + 1e-12]
+        if self.end_time is not None:
+            cands.append(self.end_time)
+        return min(cands) if cands else math.inf
+
+    def _clip(self, t: float, h: float) -> float:
+        if self.settings.max_step is not None:
+            h = min(h, self.settings.max_step)
+        gap = self._next_break(t) - t
+        if gap <= h * (1 + 1e-9):
+            return gap
+        if gap < 1.5 * h:
+            return 0.5 * gap
+        return h
+
+    def __iter__(self):
+        m, mat = self.model, self.model.material
+        s = self.settings
+        t = 0.0
+        temp = np.asarray(self.initial, dtype=float).copy()
+        h_enth = mat.enthalpy(temp)
+        h = s.first_step
+
+        # first step: backward Euler, repeated with a smaller step if Newton fails
+        while True:
+            hh = self._clip(t, h)
+            try:
+                new = self._stage(temp, t + hh, 1.0 / hh, h_enth)
+                break
+            except _NewtonFailed:
+                self.stats.rejected += 1
+                h = 0.25 * hh
+                if h < 1e-12:
+                    raise SolverError("the first step failed to converge") from None
+        h_new = mat.enthalpy(new)
+        hdot = (h_new - h_enth) / hh
+        flows = m.face_flows(new, t + hh, hdot)
+        rate = hdot / mat.capacity(new)
+        self.stats.steps += 1
+        yield Step(
+            0, (t, t + hh), (temp, new), rate, {k: v * hh for k, v in flows.items()}, "euler"
+        )
+        t, temp, h_enth = t + hh, new, h_new
+        h = 4.0 * hh
+
+        while self.stats.steps < s.max_steps:
+            if self.end_time is not None and t >= self.end_time * (1 - 1e-12):
+                return
+            hh = self._clip(t, h)
+            a = 2.0 / (GAMMA * hh)
+            try:
+                hstar = h_enth + 0.5 * GAMMA * hh * hdot
+                tg_temp = self._stage(temp, t + GAMMA * hh, a, hstar)
+                hg = mat.enthalpy(tg_temp)
+                hdot_g = a * (hg - hstar)
+                hstar2 = (hg - (1.0 - GAMMA) ** 2 * h_enth) / (GAMMA * (2.0 - GAMMA))
+                guess = tg_temp + (1.0 - GAMMA) / GAMMA * (tg_temp - temp)
+                new = self._stage(guess, t + hh, a, hstar2)
+            except _NewtonFailed:
+                self.stats.rejected += 1
+                h = 0.25 * hh
+                if h < 1e-9 * max(t, 1.0):
+                    raise SolverError(f"step size underflow at t = {t:.6g} s") from None
+                continue
+            h_new = mat.enthalpy(new)
+            hdot_new = a * (h_new - hstar2)
+            est = (2.0 * _ERR_CONST * hh) * (
+                hdot / GAMMA - hdot_g / (GAMMA * (1.0 - GAMMA)) + hdot_new / (1.0 - GAMMA)
+            )
+            free = self._free
+            k = mat.conductivity(new[free])
+            err_t = self._solve(m.volumes[free] * a * est[free]) / k
+            err = float(np.max(np.abs(err_t))) / self._atol if err_t.size else 0.0
+            factor = 0.9 * err ** (-1.0 / 3.0) if err > 0 else 3.0
+            if err > 1.0:
+                self.stats.rejected += 1
+                h = hh * min(0.9, max(0.2, factor))
+                continue
+            flows_g = m.face_flows(tg_temp, t + GAMMA * hh, hdot_g)
+            flows_1 = m.face_flows(new, t + hh, hdot_new)
+            heat = {k_: hh * (_W0 * (flows[k_] + flows_g[k_]) + _W1 * flows_1[k_]) for k_ in flows}
+            rate = hdot_new / mat.capacity(new)
+            self.stats.steps += 1
+            yield Step(
+                self.stats.steps - 1,
+                (t, t + GAMMA * hh, t + hh),
+                (temp, tg_temp, new),
+                rate,
+                heat,
+                "trbdf2",
+            )
+            t, temp, h_enth, hdot, flows = t + hh, new, h_new, hdot_new, flows_1
+            proposal = hh * min(3.0, max(0.2, factor))
+            h = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
+        raise SolverError(f"step limit of {s.max_steps} reached at t = {t:.6g} s")
