@@ -80,8 +80,9 @@ Sections (required ones marked *):
     ``name`` (letters, digits, ``_``, ``-``; unique) and ``point``: 3 coordinates in m for the
     solid model, 2 otherwise.
 ``[solver]``
-    ``end_time`` in s (optional); ``tolerance``: the relative local error per step, in
-    (0, 0.1], default 1e-4; ``max_step`` and ``first_step`` in s (optional).
+    ``end_time`` in s (optional); ``tolerance``: the local error per step as a fraction of
+    the temperature span, in (0, 0.1], default 2e-5 (target times within about 0.1 %);
+    ``max_step`` and ``first_step`` in s (optional).
 
 Every temperature must be above absolute zero (-273.15 C). Booleans are not numbers; integers
 are accepted where a real number is expected. Property and schedule tables are stored as tuples
@@ -262,7 +263,7 @@ def _choice(options: tuple[str, ...], value: Any) -> str:
         return value
     listed = ", ".join(repr(option) for option in options)
     close = get_close_matches(value, options, n=1) if isinstance(value, str) else []
-    hint = f"did you mean {close[0]!r}?" if close else "pick one of them"
+    hint = f"did you mean {close[0]!r}?" if close else "use one of the values listed"
     raise _Bad(f"must be one of {listed}, got {_show(value)}", fix=hint)
 
 
@@ -621,9 +622,10 @@ class SolverSpec(_Record):
         None, description="the time in s to stop at, > 0", examples=["7200"]
     )
     tolerance: Annotated[float, BeforeValidator(_tolerance)] = Field(
-        1e-4,
-        description="the relative local error allowed per step, in (0, 0.1]",
-        examples=["1e-4"],
+        2e-5,
+        description="the local error allowed per step as a fraction of the temperature span, "
+        "in (0, 0.1]",
+        examples=["2e-5"],
     )
     max_step: _Positive | None = Field(
         None, description="the largest time step in s, > 0", examples=["60"]
@@ -789,6 +791,13 @@ def _from_validation_error(exc: ValidationError) -> CaseError:
         loc += bad.at
         _, info, _ = _walk(loc)
         return _one_line(_dotted(loc), bad.problem, bad.fix or _give_fix(info))
+    if kind == "invalid_key" or (kind == "string_type" and loc[-1:] == ("[key]",)):
+        loc = loc[:-2] if loc[-1:] == ("[key]",) else loc[:-1]
+        return _one_line(
+            _dotted(loc) or "the top level",
+            f"keys must be text, got {_show(value)}",
+            "use a text key (a TOML bare or quoted key)",
+        )
     where = _dotted(loc)
     name, info, tp = _walk(loc)
     if kind == "extra_forbidden":
@@ -797,12 +806,13 @@ def _from_validation_error(exc: ValidationError) -> CaseError:
         close = get_close_matches(str(loc[-1]), valid, n=1)
         hint = f"did you mean {close[0]!r}?" if close else "remove it or correct the spelling;"
         return _one_line(where, "unknown key", f"{hint} valid keys here: {', '.join(valid)}")
-    if kind == "invalid_key":
-        return _one_line(where, f"keys must be text, got {_show(value)}", "use a text key")
     if kind == "missing":
         return _one_line(where, "missing", _add_fix(str(loc[-1]), info, where))
     if kind in ("model_type", "model_attributes_type", "dict_type"):
-        if _is_record(tp):
+        if _is_record(tp) and loc and isinstance(loc[-1], int):
+            fix = f"write each entry as a [[{_dotted(loc[:-1])}]] table with keys "
+            fix += ", ".join(tp.model_fields)
+        elif _is_record(tp):
             fix = f"write [{where}] as a table with keys {', '.join(tp.model_fields)}"
         else:
             fix = f"write one [{where}.NAME] table per entry"
@@ -877,11 +887,14 @@ _AT = re.compile(
 def _syntax_error(source: str, exc: tomllib.TOMLDecodeError) -> CaseError:
     text = str(exc).replace("\n", " ")
     match = _AT.match(text)
-    where = source
+    where, near = source, "that line"
     if match:
         text = match["msg"]
-        where += f" line {match['line']}, column {match['col']}" if match["line"] else " at the end"
-    return _one_line(where, text, "check the TOML syntax near that line")
+        if match["line"]:
+            where += f" line {match['line']}, column {match['col']}"
+        else:
+            where, near = f"{source} at the end", "the end of the file"
+    return _one_line(where, text, f"check the TOML syntax near {near}")
 
 
 def load_case(path: str | os.PathLike) -> Case:

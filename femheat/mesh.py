@@ -109,9 +109,20 @@ def gmsh_session():
             gmsh.finalize()
 
 
+DEFAULT_NODES_LIMIT = 200_000
+
+
 def default_size(extents) -> float:
-    """Default element size: 1/20 of the smallest extent (m)."""
-    return float(min(extents)) / 20.0
+    """Default element size (m): 1/20 of the smallest extent in 2D, 1/8 in 3D.
+
+    Enlarged if the mesh would exceed about `DEFAULT_NODES_LIMIT` nodes.
+    """
+    dim = len(extents)
+    h = float(min(extents)) / (20.0 if dim == 2 else 8.0)
+    nodes = float(np.prod(extents)) / h**dim
+    if nodes > DEFAULT_NODES_LIMIT:
+        h *= (nodes / DEFAULT_NODES_LIMIT) ** (1.0 / dim)
+    return h
 
 
 def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> PartMesh:

@@ -22,10 +22,9 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-import scipy.sparse as sp
-from scipy.sparse.linalg import splu
 
 from .errors import SolverError
+from .linear import SpdSolver, choose_method
 from .model import Model
 
 __all__ = ["StepSettings", "Step", "SolverStats", "Marcher", "GAMMA"]
@@ -51,7 +50,7 @@ class StepSettings:
     """
 
     span: float
-    tolerance: float = 1e-4
+    tolerance: float = 2e-5
     first_step: float = 1e-3
     max_step: float | None = None
     breakpoints: tuple[float, ...] = ()
@@ -120,17 +119,13 @@ class SolverStats:
     newton_iterations: int = 0
     factorizations: int = 0
     linear_solves: int = 0
-    largest_newton_correction_K: float = 0.0
+    linear_iterations: int = 0
+    linear_method: str = ""
+    largest_final_newton_correction_K: float = 0.0
 
 
 class _NewtonFailed(Exception):
     pass
-
-
-@dataclass
-class _Factor:
-    lu: object
-    diag: np.ndarray
 
 
 @dataclass
@@ -149,64 +144,65 @@ class Marcher:
         self.end_time = self.settings.end_time
         m = self.model
         self._free = m.free_nodes
-        self._kff = m.stiffness[self._free][:, self._free].tocsc()
-        self._factor: _Factor | None = None
+        kff = m.stiffness[self._free][:, self._free]
+        method = choose_method(self._free.size, m.mesh.dim)
+        self._linear = SpdSolver(kff, method)
+        self.stats.linear_method = method
         self._atol = self.settings.tolerance * self.settings.span
         self._newton_tol = 1e-2 * self._atol
+        self._diag = None
 
-    # -- linear algebra ----------------------------------------------------------------------
-    def _factorize(self, diag: np.ndarray) -> _Factor:
-        mat = (self._kff + sp.diags(diag, format="csc")).tocsc()
-        lu = splu(
-            mat, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True}
-        )
-        self.stats.factorizations += 1
-        return _Factor(lu, diag.copy())
-
-    def _solve(self, rhs: np.ndarray) -> np.ndarray:
-        self.stats.linear_solves += 1
-        return self._factor.lu.solve(rhs)
+    def _solve(self, diag: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+        x = self._linear.solve(diag, rhs)
+        ls = self._linear.stats
+        self.stats.factorizations = ls.builds
+        self.stats.linear_solves = ls.solves
+        self.stats.linear_iterations = ls.iterations
+        return x
 
     # -- one implicit stage ------------------------------------------------------------------
     def _stage(self, guess: np.ndarray, t: float, a: float, hstar: np.ndarray) -> np.ndarray:
-        """Solve m a (H(T) - H*) + K phi(T) - F(T, t) = 0 for T (C); returns T."""
+        """Newton for m a (H(T) - H*) + K phi(T) - F(T, t) = 0; returns T (C).
+
+        With the Kirchhoff form the Jacobian is (K + diag(d)) diag(k), d = (m a rho c - dF/dT)/k.
+        """
         m, mat, free = self.model, self.model.material, self._free
         temp = guess.copy()
         if m.fixed_nodes.size:
             temp[m.fixed_nodes] = m.fixed_values(t)
         previous = None
-        fresh = False
-        for _ in range(12):
+        for _ in range(10):
             flow, dflow = m.boundary_flow(temp, t)
             resid = m.volumes * a * (mat.enthalpy(temp) - hstar)
             resid += m.stiffness @ mat.kirchhoff(temp) - flow
             k = mat.conductivity(temp[free])
             diag = (m.volumes[free] * a * mat.capacity(temp[free]) - dflow[free]) / k
-            if (
-                self._factor is None
-                or np.max(np.abs(diag - self._factor.diag) / self._factor.diag) > 0.25
-            ):
-                self._factor = self._factorize(diag)
-                fresh = True
-            step = self._solve(-resid[free]) / k
+            self._diag = diag
+            try:
+                step = self._solve(diag, -resid[free]) / k
+            except np.linalg.LinAlgError as exc:
+                raise _NewtonFailed(str(exc)) from None
             temp[free] += step
             self.stats.newton_iterations += 1
             norm = float(np.max(np.abs(step))) if step.size else 0.0
             if not np.isfinite(norm):
                 raise _NewtonFailed("non-finite Newton update")
             if norm <= self._newton_tol:
+                self._note(norm)
                 return temp
             if previous is not None:
                 rate = norm / previous
-                if rate < 1.0 and rate / (1.0 - rate) * norm <= self._newton_tol:
+                if rate >= 1.0:
+                    raise _NewtonFailed(f"Newton diverges (contraction {rate:.2f})")
+                if rate / (1.0 - rate) * norm <= self._newton_tol:
+                    self._note(norm)
                     return temp
-                if rate > 0.5:
-                    if fresh and rate >= 1.0:
-                        raise _NewtonFailed(f"Newton diverges (contraction {rate:.2f})")
-                    self._factor = None  # refactor at the current state next iteration
-                    fresh = False
             previous = norm
         raise _NewtonFailed(f"Newton did not converge (last correction {norm:.3g} K)")
+
+    def _note(self, norm: float) -> None:
+        s = self.stats
+        s.largest_final_newton_correction_K = max(s.largest_final_newton_correction_K, norm)
 
     # -- the march ----------------------------------------------------------------------------
     def _next_break(self, t: float) -> float:
@@ -262,7 +258,7 @@ class Marcher:
             a = 2.0 / (GAMMA * hh)
             try:
                 hstar = h_enth + 0.5 * GAMMA * hh * hdot
-                tg_temp = self._stage(temp, t + GAMMA * hh, a, hstar)
+                tg_temp = self._stage(temp + GAMMA * hh * rate, t + GAMMA * hh, a, hstar)
                 hg = mat.enthalpy(tg_temp)
                 hdot_g = a * (hg - hstar)
                 hstar2 = (hg - (1.0 - GAMMA) ** 2 * h_enth) / (GAMMA * (2.0 - GAMMA))
@@ -281,7 +277,7 @@ class Marcher:
             )
             free = self._free
             k = mat.conductivity(new[free])
-            err_t = self._solve(m.volumes[free] * a * est[free]) / k
+            err_t = self._solve(self._diag, m.volumes[free] * a * est[free]) / k
             err = float(np.max(np.abs(err_t))) / self._atol if err_t.size else 0.0
             factor = 0.9 * err ** (-1.0 / 3.0) if err > 0 else 3.0
             if err > 1.0:

@@ -197,8 +197,14 @@ class EnergyWatch:
         return float(sum(self.heat_in.values()))
 
     @property
+    def gross(self) -> float:
+        """Sum of the magnitudes of the face totals, J (scale of the energy moved)."""
+        return float(sum(abs(v) for v in self.heat_in.values()))
+
+    @property
     def relative_error(self) -> float:
-        scale = max(abs(self.total_in), abs(self.stored), 1e-300)
+        """(stored - heat in) relative to the larger of the stored and the gross face heat."""
+        scale = max(self.gross, abs(self.stored), 1e-300)
         return (self.stored - self.total_in) / scale
 
 
@@ -221,7 +227,9 @@ class SettleWatch:
             self._rates.clear()
             return
         r = float(np.max(np.abs(step.rate)))
-        if r == 0.0:
+        moved = float(np.max(np.abs(step.end - step.start)))
+        long_step = step.t1 - step.t0 >= step.t0 - self.last_change
+        if r == 0.0 or (long_step and moved <= 1e-9 * self.span):
             self.remaining_K, self.settled = 0.0, True
             return
         self._rates = (self._rates + [(step.t1, r)])[-4:]
