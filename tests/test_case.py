@@ -95,7 +95,7 @@ def test_example_file_loads_with_values_and_types(tmp_path):
     assert (case.target.temperature, case.target.hold) == (830.0, 0.0)
     assert (case.mesh.size, case.mesh.element) == (0.002, "P1")
     assert [(p.name, p.point) for p in case.probes] == [("core", (0.0, 0.005))]
-    assert case.solver.tolerance == 1e-4
+    assert case.solver.tolerance == 2e-5
     assert case.solver.end_time is None and case.solver.max_step is None
     assert case.solver.first_step is None
 
@@ -125,7 +125,7 @@ def test_optional_sections_take_defaults():
     assert case.title == "" and case.faces == {} and case.probes == []
     assert case.target is None
     assert (case.mesh.size, case.mesh.element) == (None, "P1")
-    assert case.solver.tolerance == 1e-4
+    assert case.solver.tolerance == 2e-5
 
 
 def test_solid_box_with_all_face_conditions():
