@@ -82,7 +82,8 @@ Sections (required ones marked *):
 ``[solver]``
     ``end_time`` in s (optional); ``tolerance``: the local error per step as a fraction of
     the temperature span, in (0, 0.1], default 2e-5 (target times within about 0.1 %);
-    ``max_step`` and ``first_step`` in s (optional).
+    ``max_step``, ``first_step`` and ``fixed_step`` (constant steps, no error control) in s,
+    all optional.
 
 Every temperature must be above absolute zero (-273.15 C). Booleans are not numbers; integers
 are accepted where a real number is expected. Property and schedule tables are stored as tuples
@@ -632,6 +633,11 @@ class SolverSpec(_Record):
     )
     first_step: _Positive | None = Field(
         None, description="the first time step in s, > 0", examples=["1"]
+    )
+    fixed_step: _Positive | None = Field(
+        None,
+        description="a constant time step in s with no error control (for accuracy studies)",
+        examples=["10"],
     )
 
 

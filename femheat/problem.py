@@ -269,6 +269,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         max_step=float(solver.max_step) if solver.max_step else None,
         breakpoints=_breakpoints(conds, furnace_gas, furnace_wall),
         end_time=float(solver.end_time) if solver.end_time else None,
+        fixed_step=float(solver.fixed_step) if solver.fixed_step else None,
     )
     if target is None and settings.end_time is None:
         log.info("no target and no end time: the run goes on until the field settles")

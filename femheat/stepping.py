@@ -47,6 +47,8 @@ class StepSettings:
         breakpoints: s, times the march must land on (schedule corners).
         end_time: s, stop here (None: until the consumer stops).
         max_steps: safety limit on accepted steps.
+        fixed_step: s, march with this constant step and no error control (for studies of
+            the order of accuracy); the first step is backward Euler of the same size.
     """
 
     span: float
@@ -56,6 +58,7 @@ class StepSettings:
     breakpoints: tuple[float, ...] = ()
     end_time: float | None = None
     max_steps: int = 200_000
+    fixed_step: float | None = None
 
 
 @dataclass(frozen=True)
@@ -227,7 +230,7 @@ class Marcher:
         t = 0.0
         temp = np.asarray(self.initial, dtype=float).copy()
         h_enth = mat.enthalpy(temp)
-        h = s.first_step
+        h = s.fixed_step or s.first_step
 
         # first step: backward Euler, repeated with a smaller step if Newton fails
         while True:
@@ -249,7 +252,7 @@ class Marcher:
             0, (t, t + hh), (temp, new), rate, {k: v * hh for k, v in flows.items()}, "euler"
         )
         t, temp, h_enth = t + hh, new, h_new
-        h = 4.0 * hh
+        h = s.fixed_step or 4.0 * hh
 
         while self.stats.steps < s.max_steps:
             if self.end_time is not None and t >= self.end_time * (1 - 1e-12):
@@ -280,7 +283,9 @@ class Marcher:
             err_t = self._solve(self._diag, m.volumes[free] * a * est[free]) / k
             err = float(np.max(np.abs(err_t))) / self._atol if err_t.size else 0.0
             factor = 0.9 * err ** (-1.0 / 3.0) if err > 0 else 3.0
-            if err > 1.0:
+            if s.fixed_step:
+                factor = 1.0
+            elif err > 1.0:
                 self.stats.rejected += 1
                 h = hh * min(0.9, max(0.2, factor))
                 continue
@@ -299,5 +304,8 @@ class Marcher:
             )
             t, temp, h_enth, hdot, flows = t + hh, new, h_new, hdot_new, flows_1
             proposal = hh * min(3.0, max(0.2, factor))
-            h = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
+            if s.fixed_step:
+                h = s.fixed_step
+            else:
+                h = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
         raise SolverError(f"step limit of {s.max_steps} reached at t = {t:.6g} s")
