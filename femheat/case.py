@@ -108,6 +108,7 @@ from pydantic import (
     BeforeValidator,
     ConfigDict,
     Field,
+    PrivateAttr,
     ValidationError,
     model_validator,
 )
@@ -394,7 +395,6 @@ _ValueSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperat
 _Property = Annotated[Property, BeforeValidator(_property)]
 
 ModelKind = Literal["planar", "axisymmetric", "solid"]
-ShapeKind = Literal["rectangle", "box"]
 Condition = Literal["furnace", "insulated", "symmetry", "convection", "fixed", "flux"]
 ElementKind = Literal["P1", "P2"]
 
@@ -410,45 +410,46 @@ class _Record(BaseModel):
     model_config = ConfigDict(frozen=True, extra="forbid")
 
 
-_SIZE_LABELS = {"rectangle": "[width, height]", "box": "[x, y, z]"}
-_FOR_3D = '; for a 3D part use model = "solid" and shape = "box"'
-_SHAPE_FITS = {"rectangle": (2, ("planar", "axisymmetric")), "box": (3, ("solid",))}
+class Part(BaseModel):
+    """The part: which model, which built-in shape, and the shape's parameters (m).
 
+    Keys other than ``model`` and ``shape`` are the shape's parameters (``size`` for a
+    rectangle or box; see ``femheat shapes``); they are checked by the shape registry.
+    """
 
-class Part(_Record):
-    """The part: which model, which built-in shape, and its dimensions in m."""
+    model_config = ConfigDict(frozen=True, extra="allow")
+    _params: dict = PrivateAttr(default_factory=dict)
 
     model: Annotated[ModelKind, _one_of(ModelKind)] = Field(
         description="the model: 'planar', 'axisymmetric' or 'solid'", examples=['"planar"']
     )
-    shape: Annotated[ShapeKind, _one_of(ShapeKind)] = Field(
-        description="the shape: 'rectangle' (2D) or 'box' (3D)", examples=['"rectangle"']
-    )
-    size: Annotated[tuple[float, ...], BeforeValidator(_sizes)] = Field(
-        description="the dimensions in m: [width, height] for a rectangle, [x, y, z] for a box",
-        examples=["[0.04, 0.01]"],
+    shape: _Text = Field(
+        description="the shape, e.g. 'rectangle' (2D) or 'box' (3D); list them with femheat shapes",
+        examples=['"rectangle"'],
     )
 
     @model_validator(mode="after")
-    def _shape_fits_model(self) -> Part:
-        count, models = _SHAPE_FITS[self.shape]
-        if self.model not in models:
-            other = next(shape for shape, (_, fits) in _SHAPE_FITS.items() if self.model in fits)
-            raise _Bad(
-                f"shape {self.shape!r} does not fit model {self.model!r}; "
-                f"a {self.shape} needs model {' or '.join(repr(m) for m in models)}",
-                fix=f'use shape = "{other}" with {_SIZE_LABELS[other]}, or model = "{models[0]}"',
-                at=("shape",),
-            )
-        if len(self.size) != count:
-            raise _Bad(
-                f"a {self.shape} needs {count} sizes {_SIZE_LABELS[self.shape]}, "
-                f"got {len(self.size)}: {_show(list(self.size))}",
-                fix=f"give size = {_SIZE_LABELS[self.shape]} in m"
-                + (_FOR_3D if count == 2 else ""),
-                at=("size",),
-            )
+    def _shape_params(self) -> Part:
+        from .geometry import ShapeParamError, check_params
+
+        given = dict(self.model_extra or {})
+        try:
+            params = check_params(self.shape, self.model, given)
+        except ShapeParamError as exc:
+            at = (exc.param,) if exc.index is None else (exc.param, exc.index)
+            raise _Bad(exc.problem, fix=exc.fix, at=at) from None
+        self._params = params
         return self
+
+    @property
+    def params(self) -> dict:
+        """The shape's checked parameters with defaults filled in."""
+        return self._params
+
+    @property
+    def size(self) -> tuple[float, ...] | None:
+        """``size`` of a rectangle or box (m), else None."""
+        return self.params.get("size")
 
 
 class Material(_Record):

@@ -113,12 +113,32 @@ def _run_case(case, out: Path, console, quiet: bool) -> int:
     from .problem import build_problem
     from .run import run_problem
 
+    _writable(out)
     problem = build_problem(case)
     result = run_problem(problem)
-    write_summary(out, result)
-    write_history(out, result)
+    try:
+        write_summary(out, result)
+        write_history(out, result)
+    except OSError as exc:
+        _print_result(result, out, console, quiet)
+        raise FemheatError(f"results could not be written to {out}: {exc}") from None
     _print_result(result, out, console, quiet)
     return 0
+
+
+def _writable(out: Path) -> None:
+    """Make the results folder now, so a bad --out fails before the run, not after it."""
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        probe = out / ".femheat_write_test"
+        probe.write_text("", encoding="utf-8")
+        probe.unlink()
+    except OSError as exc:
+        raise CaseError(
+            "--out",
+            f"cannot write results to {str(out)!r} ({exc.strerror or exc})",
+            "give a folder you can write to",
+        ) from None
 
 
 def _check(case, console) -> int:
@@ -128,7 +148,7 @@ def _check(case, console) -> int:
     m = problem.mesh
     console.print(f"[bold]{problem.title or 'case'}[/bold]: the case file is valid")
     console.print(
-        f"  {problem.part_model} {problem.shape} {list(problem.extents)} m; mesh {m.nodes} nodes, "
+        f"  {problem.part_model} {problem.shape} {problem.params}; mesh {m.nodes} nodes, "
         f"{m.cells.shape[0]} cells, smallest quality {m.quality().min():.2f}"
     )
     for g in problem.model.faces:
@@ -152,7 +172,7 @@ def main(argv: list[str] | None = None) -> int:
 
             text = demo_case_text()
             out = Path(args.out)
-            out.mkdir(parents=True, exist_ok=True)
+            _writable(out)
             (out / "demo_case.toml").write_text(text, encoding="utf-8")
             case = parse_case(tomllib.loads(text), source="demo case")
             return _run_case(case, out, console, args.quiet)

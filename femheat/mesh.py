@@ -13,9 +13,16 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import FemheatError
+from .errors import CaseError, FemheatError
 
-__all__ = ["PartMesh", "gmsh_session", "mesh_shape", "default_size", "from_gmsh"]
+__all__ = [
+    "PartMesh",
+    "gmsh_session",
+    "default_size",
+    "from_gmsh",
+    "mesh_part",
+    "estimated_nodes",
+]
 
 log = logging.getLogger(__name__)
 
@@ -110,19 +117,18 @@ def gmsh_session():
 
 
 DEFAULT_NODES_LIMIT = 200_000
+MAX_NODES = 3_000_000
+ELEMENTS_ACROSS = {2: 20, 3: 8}  # default elements across the thinnest section
 
 
-def default_size(extents) -> float:
-    """Default element size (m): 1/20 of the smallest extent in 2D, 1/8 in 3D.
+def default_size(thickness: float, dim: int) -> float:
+    """Default element size (m): the thinnest section over 20 elements (2D) or 8 (3D)."""
+    return float(thickness) / ELEMENTS_ACROSS[dim]
 
-    Enlarged if the mesh would exceed about `DEFAULT_NODES_LIMIT` nodes.
-    """
-    dim = len(extents)
-    h = float(min(extents)) / (20.0 if dim == 2 else 8.0)
-    nodes = float(np.prod(extents)) / h**dim
-    if nodes > DEFAULT_NODES_LIMIT:
-        h *= (nodes / DEFAULT_NODES_LIMIT) ** (1.0 / dim)
-    return h
+
+def estimated_nodes(measure: float, size: float, dim: int) -> float:
+    """Rough node count of a simplex mesh of given area/volume and element size."""
+    return measure / size**dim * (1.2 if dim == 2 else 0.75)
 
 
 def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> PartMesh:
@@ -168,28 +174,66 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
     return PartMesh(coords[used].copy(), cells, faces, axisymmetric, size)
 
 
-def mesh_shape(shape: str, extents, size: float | None, axisymmetric: bool = False) -> PartMesh:
-    """Mesh a built-in shape with gmsh.
+def mesh_part(shape_name: str, params: dict, model: str, size: float | None) -> PartMesh:
+    """Build a registered shape with gmsh and mesh it; faces become named boundary groups.
 
     Args:
-        shape: "rectangle" or "box".
-        extents: dimensions in m.
-        size: element size in m (None: `default_size`).
-        axisymmetric: mark the mesh as an r-z section.
-    """
-    from .geometry import SHAPES, build_shape
+        shape_name: registered shape. params: its checked parameters. model: part model.
+        size: element size in m (None: from the thinnest section, enlarged if the mesh would
+            exceed `DEFAULT_NODES_LIMIT` nodes).
 
-    h = default_size(extents) if size is None else float(size)
-    dim = SHAPES[shape]["dim"]
+    Raises:
+        CaseError: the requested size would exceed `MAX_NODES`; the geometry failed to build.
+    """
+    from .geometry import get_shape
+
+    shape = get_shape(shape_name)
     with gmsh_session() as gmsh:
-        build_shape(gmsh, shape, extents)
+        try:
+            built = shape.build(gmsh, params, model)
+        except FemheatError:
+            raise
+        except Exception as exc:
+            raise CaseError(
+                "part", f"the {shape_name} could not be built ({exc})", "check the shape parameters"
+            ) from None
+        dim = built.dim
+        measure = sum(gmsh.model.occ.getMass(dim, t) for _, t in gmsh.model.getEntities(dim))
+        if size is None:
+            bbox = gmsh.model.getBoundingBox(-1, -1)
+            span = max(bbox[3] - bbox[0], bbox[4] - bbox[1], bbox[5] - bbox[2])
+            thick = shape.thickness(params) if shape.thickness else span / 10.0
+            h = default_size(thick, dim)
+            nodes = estimated_nodes(measure, h, dim)
+            if nodes > DEFAULT_NODES_LIMIT:
+                h *= (nodes / DEFAULT_NODES_LIMIT) ** (1.0 / dim)
+        else:
+            h = float(size)
+            nodes = estimated_nodes(measure, h, dim)
+            if nodes > MAX_NODES:
+                raise CaseError(
+                    "mesh.size",
+                    f"{h:g} m would give about {nodes:.3g} nodes, more than {MAX_NODES:.0e}",
+                    "use a larger mesh.size",
+                )
+        vols = [t for _, t in gmsh.model.getEntities(dim)]
+        gmsh.model.addPhysicalGroup(dim, vols, name="part")
+        for name, tags in built.faces.items():
+            gmsh.model.addPhysicalGroup(dim - 1, tags, name=name)
         gmsh.option.setNumber("Mesh.MeshSizeMax", h)
-        gmsh.option.setNumber("Mesh.MeshSizeMin", 0.5 * h)
+        gmsh.option.setNumber("Mesh.MeshSizeMin", 0.2 * h)
         gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
         gmsh.option.setNumber("Mesh.Algorithm", 6)
         gmsh.option.setNumber("Mesh.Algorithm3D", 10 if dim == 3 else 1)
-        gmsh.model.mesh.generate(dim)
-        mesh = from_gmsh(gmsh, dim, axisymmetric, h)
-    log.info("meshed %s: %d nodes, %d cells", shape, mesh.nodes, mesh.cells.shape[0])
+        try:
+            gmsh.model.mesh.generate(dim)
+        except Exception as exc:
+            raise CaseError(
+                "mesh",
+                f"gmsh could not mesh the part ({exc})",
+                "try a different mesh.size or check the geometry",
+            ) from None
+        mesh = from_gmsh(gmsh, dim, model == "axisymmetric", h)
+    log.info("meshed %s: %d nodes, %d cells", shape_name, mesh.nodes, mesh.cells.shape[0])
     return mesh

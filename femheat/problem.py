@@ -13,17 +13,15 @@ import numpy as np
 
 from .errors import CaseError
 from .furnace import Exposure, FaceCondition, FixedTemperature, HeatFlux, Insulated, Schedule
-from .geometry import SHAPES, face_names
+from .geometry import get_shape
 from .materials import Material, Table
-from .mesh import PartMesh, default_size, mesh_shape
+from .mesh import PartMesh, mesh_part
 from .model import Model, build_model
 from .stepping import StepSettings
 
 __all__ = ["Target", "Problem", "build_problem", "material_from_case", "schedule_from_case"]
 
 log = logging.getLogger(__name__)
-
-MAX_NODES = 3_000_000
 
 
 @dataclass(frozen=True)
@@ -42,7 +40,7 @@ class Problem:
     title: str
     part_model: str
     shape: str
-    extents: tuple[float, ...]
+    params: dict
     mesh: PartMesh
     model: Model
     initial: np.ndarray
@@ -80,7 +78,7 @@ def material_from_case(spec) -> Material:
     )
 
 
-def _conditions(case, names: tuple[str, ...], axis: str | None) -> dict[str, FaceCondition]:
+def _conditions(case, names: tuple[str, ...], axis: tuple[str, ...]) -> dict[str, FaceCondition]:
     furnace = case.furnace
     gas = schedule_from_case(furnace.temperature)
     wall = schedule_from_case(furnace.wall_temperature) or gas
@@ -94,7 +92,7 @@ def _conditions(case, names: tuple[str, ...], axis: str | None) -> dict[str, Fac
                 f"use one of: {', '.join(names)}",
             )
         kind = face.condition
-        if name == axis and kind not in ("insulated", "symmetry"):
+        if name in axis and kind not in ("insulated", "symmetry"):
             raise CaseError(
                 f"faces.{name}.condition",
                 f"face {name} is the axis of the axisymmetric model and takes no condition "
@@ -117,8 +115,8 @@ def _conditions(case, names: tuple[str, ...], axis: str | None) -> dict[str, Fac
             conds[name] = FixedTemperature(schedule_from_case(face.temperature))
         elif kind == "flux":
             conds[name] = HeatFlux(schedule_from_case(face.flux))
-    if axis is not None:
-        conds[axis] = Insulated()
+    for name in axis:
+        conds[name] = Insulated()
     return conds
 
 
@@ -207,10 +205,10 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         mesh: an already built mesh to use instead of meshing the part.
     """
     part = case.part
-    extents = tuple(float(v) for v in part.size)
-    shape_dim = SHAPES[part.shape]["dim"]
+    params = part.params
+    shape = get_shape(part.shape)
     axisym = part.model == "axisymmetric"
-    names = face_names(part.shape)
+    names = shape.names_of_faces(params)
     warnings: list[str] = []
 
     size = case.mesh.size
@@ -220,21 +218,14 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
             f"{case.mesh.element} elements are not available in this version",
             'use element = "P1" and a smaller mesh.size for more accuracy',
         )
-    if size is not None and size > min(extents):
+    thickness = shape.thickness(params) if shape.thickness else None
+    if size is not None and thickness is not None and size > thickness:
         raise CaseError(
             "mesh.size",
-            f"{size:g} m is larger than the smallest part dimension {min(extents):g} m",
-            f"use a size below {min(extents) / 4:g} m (or leave it out for the default)",
+            f"{size:g} m is larger than the thinnest section of the part, {thickness:g} m",
+            f"use a size below {thickness / 4:g} m (or leave it out for the default)",
         )
-    h = default_size(extents) if size is None else float(size)
-    estimate = float(np.prod(extents)) / h**shape_dim * (1.2 if shape_dim == 2 else 0.75)
-    if estimate > MAX_NODES:
-        raise CaseError(
-            "mesh.size",
-            f"{h:g} m would give about {estimate:.3g} nodes, more than {MAX_NODES:.0e}",
-            "use a larger mesh.size",
-        )
-    conds = _conditions(case, names, "xmin" if axisym else None)
+    conds = _conditions(case, names, shape.axis_faces if axisym else ())
     initial_c = float(case.initial.temperature)
     lo, hi = _bounds(conds, initial_c)
     target = None
@@ -245,7 +236,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
 
     material = material_from_case(case.material)
     if mesh is None:
-        mesh = mesh_shape(part.shape, extents, h, axisym)
+        mesh = mesh_part(part.shape, params, part.model, size)
     model = build_model(mesh, material, conds)
 
     probe_points = np.array([p.point for p in case.probes], dtype=float).reshape(-1, mesh.dim)
@@ -260,7 +251,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     exposed = sum(g.area for g in model.faces if not isinstance(g.condition, Insulated))
     length = model.volume / max(exposed, 1e-300)
     alpha = float(material.diffusivity(initial_c))
-    t_diff = min(length, min(extents)) ** 2 / alpha
+    t_diff = min(length, thickness or length) ** 2 / alpha
     solver = case.solver
     settings = StepSettings(
         span=span,
@@ -278,7 +269,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         title=case.title,
         part_model=part.model,
         shape=part.shape,
-        extents=extents,
+        params=params,
         mesh=mesh,
         model=model,
         initial=initial,

@@ -76,6 +76,7 @@ def run_problem(problem: Problem, observers=()) -> RunResult:
     status, reason = "finished", "end time reached"
     lo, hi = float(problem.initial.min()), float(problem.initial.max())
     last: Step | None = None
+    holding = False
     for step in marcher:
         last = step
         for w in watchers:
@@ -83,11 +84,12 @@ def run_problem(problem: Problem, observers=()) -> RunResult:
         for obs in observers:
             obs(step)
         lo, hi = min(lo, float(step.end.min())), max(hi, float(step.end.max()))
-        if tw is not None and tw.reached and marcher.end_time is None:
-            if target.hold > 0:
-                marcher.end_time = tw.time + target.hold
-            else:
+        if tw is not None and tw.reached and not holding:
+            if target.hold <= 0:
                 break
+            holding = True
+            stop = tw.time + target.hold
+            marcher.end_time = stop if marcher.end_time is None else min(marcher.end_time, stop)
         if settle.settled or (
             tw is not None
             and not tw.reached

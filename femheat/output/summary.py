@@ -80,7 +80,7 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
         "part": {
             "model": p.part_model,
             "shape": p.shape,
-            "size_m": list(p.extents),
+            "parameters": {k: list(v) if isinstance(v, tuple) else v for k, v in p.params.items()},
             "volume_m3": p.model.volume,
             "volume_unit": "m3 per metre depth" if p.part_model == "planar" else "m3",
         },
