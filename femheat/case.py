@@ -109,6 +109,7 @@ from pydantic import (
     ConfigDict,
     Field,
     PrivateAttr,
+    StrictBool,
     ValidationError,
     model_validator,
 )
@@ -428,6 +429,14 @@ class Part(BaseModel):
         examples=['"rectangle"'],
     )
 
+    @model_validator(mode="before")
+    @classmethod
+    def _mesh_file_shape(cls, data: Any) -> Any:
+        """``[part] mesh = "file"`` without a shape means the shape "mesh"."""
+        if isinstance(data, dict) and "shape" not in data and "mesh" in data:
+            return {**data, "shape": "mesh"}
+        return data
+
     @model_validator(mode="after")
     def _shape_params(self) -> Part:
         from .geometry import ShapeParamError, check_params
@@ -642,6 +651,20 @@ class SolverSpec(_Record):
     )
 
 
+class OutputSpec(_Record):
+    """What a run saves besides summary.json and history.csv."""
+
+    interval: _Positive | None = Field(
+        None,
+        description="save a field frame every this many seconds of simulated time "
+        "(frames are always saved at the target crossing and at the end)",
+        examples=["600"],
+    )
+    fields: StrictBool = Field(True, description="write VTK field frames", examples=["true"])
+    pictures: StrictBool = Field(True, description="write PNG renders and plots", examples=["true"])
+    report: StrictBool = Field(True, description="write report.html", examples=["true"])
+
+
 class Case(_Record):
     """A whole case, checked: every number in range, every table in order."""
 
@@ -659,6 +682,13 @@ class Case(_Record):
         default_factory=list, description="probe points, one [[probes]] table each"
     )
     solver: SolverSpec = Field(default_factory=SolverSpec, description="time stepping controls")
+    output: OutputSpec = Field(default_factory=lambda: OutputSpec(), description="what to save")
+    _base_dir: Path | None = PrivateAttr(default=None)
+
+    @property
+    def base_dir(self) -> Path:
+        """Folder that relative file paths in the case are taken from (the case file's)."""
+        return self._base_dir or Path.cwd()
 
     @model_validator(mode="after")
     def _parts_agree(self) -> Case:
@@ -946,4 +976,6 @@ def load_case(path: str | os.PathLike) -> Case:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise _syntax_error(source, exc) from None
-    return parse_case(data, source=source)
+    case = parse_case(data, source=source)
+    case._base_dir = Path(source).resolve().parent
+    return case

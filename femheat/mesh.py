@@ -174,20 +174,28 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
     return PartMesh(coords[used].copy(), cells, faces, axisymmetric, size)
 
 
-def mesh_part(shape_name: str, params: dict, model: str, size: float | None) -> PartMesh:
+def mesh_part(
+    shape_name: str, params: dict, model: str, size: float | None, base_dir=None
+) -> PartMesh:
     """Build a registered shape with gmsh and mesh it; faces become named boundary groups.
 
     Args:
         shape_name: registered shape. params: its checked parameters. model: part model.
+        base_dir: folder that relative file paths in the parameters are taken from.
         size: element size in m (None: from the thinnest section, enlarged if the mesh would
             exceed `DEFAULT_NODES_LIMIT` nodes).
 
     Raises:
         CaseError: the requested size would exceed `MAX_NODES`; the geometry failed to build.
     """
-    from .geometry import get_shape
+    from pathlib import Path
+
+    from .geometry import get_shape, resolve_paths
 
     shape = get_shape(shape_name)
+    params = resolve_paths(shape_name, params, base_dir or Path.cwd())
+    if shape.load is not None:
+        return shape.load(params, model)
     with gmsh_session() as gmsh:
         try:
             built = shape.build(gmsh, params, model)

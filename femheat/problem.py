@@ -236,7 +236,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
 
     material = material_from_case(case.material)
     if mesh is None:
-        mesh = mesh_part(part.shape, params, part.model, size)
+        mesh = mesh_part(part.shape, params, part.model, size, case.base_dir)
     model = build_model(mesh, material, conds)
 
     probe_points = np.array([p.point for p in case.probes], dtype=float).reshape(-1, mesh.dim)

@@ -15,6 +15,7 @@ from .base import (
     check_params,
     get_shape,
     register,
+    resolve_paths,
 )
 
 __all__ = [
@@ -27,4 +28,5 @@ __all__ = [
     "check_params",
     "get_shape",
     "register",
+    "resolve_paths",
 ]

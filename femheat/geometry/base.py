@@ -22,6 +22,7 @@ __all__ = [
     "register",
     "get_shape",
     "check_params",
+    "resolve_paths",
 ]
 
 REQUIRED = object()
@@ -82,6 +83,8 @@ class ShapeDef:
         face_names: optional (params) -> tuple of names, when they depend on the parameters.
         thickness: optional (params) -> thinnest section (m), for the default mesh size.
         axis_faces: faces lying on the axis in the axisymmetric model (they take no condition).
+        load: optional (params, model) -> PartMesh for shapes that come already meshed (a mesh
+            file); used instead of `build` and gmsh meshing.
     """
 
     name: str
@@ -94,6 +97,7 @@ class ShapeDef:
     face_names: Callable[[dict], tuple[str, ...]] | None = None
     thickness: Callable[[dict], float] | None = None
     axis_faces: tuple[str, ...] = ()
+    load: Callable[..., Any] | None = None
 
     def names_of_faces(self, params: dict) -> tuple[str, ...]:
         return self.face_names(params) if self.face_names else self.faces
@@ -180,6 +184,19 @@ def _convert(p: Param, v):
     if p.kind == "any":
         return v
     raise ValueError(f"unknown parameter kind {p.kind!r}")  # a bug in a shape definition
+
+
+def resolve_paths(shape_name: str, params: dict, base_dir) -> dict:
+    """Parameters with every "path" parameter made absolute against `base_dir`."""
+    from pathlib import Path
+
+    shape = get_shape(shape_name)
+    out = dict(params)
+    for p in shape.params:
+        if p.kind == "path" and isinstance(out.get(p.name), str):
+            path = Path(out[p.name]).expanduser()
+            out[p.name] = str(path if path.is_absolute() else Path(base_dir) / path)
+    return out
 
 
 def check_params(shape_name: str, model: str, given: dict) -> dict:
