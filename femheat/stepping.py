@@ -9,9 +9,11 @@ Both TR-BDF2 stages and the Euler step solve the same kind of equation for T:
 with a = 1/h (Euler) or a = 2/(gamma h) (both TR-BDF2 stages) and H* from earlier values.
 The local error of a step is estimated from the enthalpy rates at t, t + gamma h and t + h,
 filtered through (I - gamma h/2 J)^-1 (Shampine's filter) and measured in kelvin against
-``tolerance * span``. Newton's method works on the Kirchhoff form (Jacobian K + diag), reusing
-one sparse factorisation while it converges (chord iterations) and refactoring when the
-diagonal has drifted or convergence slows. Steps never cross a schedule breakpoint.
+``tolerance * span``. Each stage is solved by Newton's method on the Kirchhoff form, whose
+Jacobian is (K + diag(d)) diag(k) with K the constant unit-conductivity stiffness; every Newton
+correction is an exact solve by conjugate gradients preconditioned with a kept factorisation or
+multigrid hierarchy (`femheat.linear`), rebuilt only when the iteration count shows it has
+drifted. Steps never cross a schedule breakpoint.
 
 Nothing here opens a file or draws: consumers iterate over `Marcher` and observe the `Step`s.
 """

@@ -1,7 +1,7 @@
 """Checks of femheat.exact against published values, derived limits and independent solvers.
 
 Sources are named beside each check. "REFERENCES.md sec. 1" is the project's reference sheet
-(/work/shared/REFERENCES.md); its tags are kept: [memory] = recalled, not confirmed on the
+(validation/REFERENCES.md); its tags are kept: [memory] = recalled, not confirmed on the
 page; [computed] = computed from the exact formula; [derived] = derived in the comment here.
 """
 
