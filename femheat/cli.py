@@ -152,7 +152,9 @@ def _check(case, console) -> int:
         f"{m.cells.shape[0]} cells, smallest quality {m.quality().min():.2f}"
     )
     for g in problem.model.faces:
-        console.print(f"  face {g.name}: {type(g.condition).__name__}")
+        label = problem.face_labels.get(g.name, "")
+        unit = "m2 per m depth" if problem.part_model == "planar" else "m2"
+        console.print(f"  face {g.name}: {label} (area {g.area:.4g} {unit})")
     return 0
 
 

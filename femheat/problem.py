@@ -52,6 +52,7 @@ class Problem:
     furnace_gas: Schedule
     furnace_wall: Schedule
     warnings: tuple[str, ...] = field(default=())
+    face_labels: dict[str, str] = field(default_factory=dict)  # face -> case-file condition
 
 
 def schedule_from_case(value) -> Schedule:
@@ -281,4 +282,9 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         furnace_gas=furnace_gas,
         furnace_wall=furnace_wall,
         warnings=tuple(warnings),
+        face_labels={
+            name: ("axis" if axisym and name in shape.axis_faces else
+                   (case.faces[name].condition if name in case.faces else "furnace"))
+            for name in names
+        },
     )

@@ -89,7 +89,7 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
             "cells": int(mesh.cells.shape[0]),
             "element": "P1",
             "size_m": mesh.size,
-            "faces": {g.name: type(g.condition).__name__.lower() for g in p.model.faces},
+            "faces": dict(p.face_labels),
             "min_quality": float(q.min()),
         },
         "solver": {
