@@ -1,6 +1,11 @@
 """The case file: what to heat, in what furnace, and when to stop.
 
 A case is a TOML file in SI units, with temperatures in degrees Celsius and times in seconds.
+Any number may instead be text with a unit (read by pint, see `femheat.units`): ``"25 mm"``,
+``"1650 degF"``, ``"2 h"``, ``"45 W/m/K"``, ``"30 Btu/(h*ft**2*degF)"``; each field knows what
+it measures, and a unit that measures something else is an error naming the field. Outside
+temperature fields, degF and degC are temperature differences (``"400 degF/h"``). A table may
+also be written ``{units = ["h", "degF"], rows = [[0, 70], [2, 1650]]}``.
 :func:`load_case` reads a file and :func:`parse_case` checks an already parsed table; both return
 a frozen :class:`Case` or raise :class:`~femheat.errors.CaseError` whose one-line message names
 the place in the file, the bad value and a fix, e.g.::
@@ -51,26 +56,55 @@ Sections (required ones marked *):
 ``[material]`` *
     ``density`` in kg/m3; ``conductivity`` in W/(m K); ``specific_heat`` in J/(kg K); ``name``.
     A property is a positive number or a table ``[[temperature_C, value], ...]`` of two or more
-    rows, temperatures strictly increasing, values > 0.
+    rows, temperatures strictly increasing, values > 0. A ``name`` from the material library
+    (``femheat materials``, e.g. ``"carbon-steel-en1993"``) supplies all three, and any of them
+    given here overrides it; otherwise all three are required and ``name`` is a label.
+    ``table_file``: a CSV file (relative to the case file) with a ``temperature`` column and
+    ``conductivity``, ``specific_heat`` or ``density`` columns, units in ``[ ]`` in the header
+    (see `femheat.property_csv`).
 ``[furnace]`` *
     ``temperature``: the gas temperature in C; ``wall_temperature``: the wall temperature seen
     by radiation in C (optional); ``htc``: the convective coefficient in W/(m2 K), >= 0;
     ``emissivity`` of the part surface, between 0 and 1. A schedule is a number or a table
     ``[[time_s, value], ...]`` of one or more rows, times >= 0 and strictly increasing.
+    A temperature schedule may also be a furnace program (see `femheat.program`)::
+
+        [furnace.temperature]
+        start = "400 C"
+        steps = [{ramp_to = "620 C", rate = "100 degC/h"}, {hold = "2 h"},
+                 {cool_to = "400 C", rate = "150 degC/h"}]
+        limit = {heating = "222 degC/h", cooling = "278 degC/h", min_rate = "56 degC/h",
+                 above = "425 C", thickness = "50 mm"}
+
+    A step is ``ramp_to`` or ``cool_to`` with ``rate`` or ``duration``, or ``hold``. The
+    optional ``limit`` caps ramp rates at ``rate * reference_thickness / thickness`` (default
+    reference 1 in; ``thickness`` defaults to the part's thinnest modelled section), between
+    ``min_rate`` and ``max_rate``, above the ``above`` temperature; a ramp with no rate runs at
+    the limit.
 ``[faces.NAME]``
     ``condition`` and the keys it uses. Faces not listed are exposed to the furnace.
 
     ========== ============================================================================
-    furnace    exposed to the furnace (no other key)
+    furnace    exposed to the furnace; ``radiation_factor`` (0 to 1, default 1) multiplies
+               the emissivity for a face shielded from the walls
     insulated  no heat flow (no other key)
     symmetry   no heat flow across a plane of symmetry (no other key)
     convection ``htc`` (W/(m2 K)) and ``ambient`` (C) required; ``emissivity`` (default 0)
-               and ``wall`` (C, default: the ambient) for radiation
+               and ``wall`` (C, default: the ambient) for radiation; ``radiation_factor``
+    zone       a furnace zone of its own: ``ambient`` (C, a schedule) required; ``htc``,
+               ``emissivity`` (default: the furnace's), ``wall`` (default: the ambient),
+               ``radiation_factor``
+    hearth     resting on the hearth: ``conductance`` (contact conductance, W/(m2 K), 0 for
+               none) required; ``hearth_temperature`` (C, default: the furnace gas)
     fixed      ``temperature`` (C, a schedule)
     flux       ``flux`` (W/m2 into the part, a schedule, any sign)
     ========== ============================================================================
 ``[initial]`` *
-    ``temperature``: the uniform starting temperature in C.
+    One of: ``temperature``, the uniform starting temperature in C; ``from_run``, the results
+    folder of an earlier run whose final saved field is the start (its ``fields.pvd``);
+    ``from_file``, a VTK file (.vtu, .vtk, or .pvd for its latest frame). Paths are relative
+    to the case file; ``field`` names the point data in C (default ``"temperature_C"``). A
+    field on another mesh is interpolated onto this one (`femheat.initial_field`).
 ``[target]``
     ``temperature`` in C that every point must reach; ``hold`` in s to keep running after
     that (default 0). Without ``[target]`` the run marches to ``solver.end_time`` or steady state.
@@ -116,6 +150,7 @@ from pydantic import (
 from pydantic.fields import FieldInfo
 
 from femheat.errors import CaseError
+from femheat.units import UnitError, to_si
 
 __all__ = [
     "ABSOLUTE_ZERO_C",
@@ -128,7 +163,10 @@ __all__ = [
     "MeshSpec",
     "Part",
     "Probe",
+    "Program",
+    "ProgramStep",
     "Property",
+    "RateLimit",
     "Schedule",
     "SolverSpec",
     "Table",
@@ -144,7 +182,9 @@ Table = tuple[tuple[float, float], ...]
 """Rows ``(x, value)`` with ``x`` strictly increasing (time in s or temperature in C)."""
 
 Schedule = float | Table
-"""A value against time: a constant, or rows ``(time_s, value)``."""
+"""A value against time: a constant, or rows ``(time_s, value)``. Temperature schedules may
+also be a :class:`Program`; turn any of them into a `furnace.Schedule` with
+`femheat.program.to_schedule`."""
 
 Property = float | Table
 """A material property: a constant, or rows ``(temperature_C, value)``."""
@@ -187,8 +227,17 @@ def _show(value: Any) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
-def _number(value: Any) -> float:
-    """A finite real number; integers are fine, booleans and text are not."""
+def _number(value: Any, kind: str | None = None) -> float:
+    """A finite real number; integers are fine, booleans are not.
+
+    With a `kind` (a key of `femheat.units.KINDS`), text with a unit such as "25 mm" is
+    converted to the kind's base unit; without one, text is refused.
+    """
+    if isinstance(value, str) and kind is not None:
+        try:
+            return to_si(value, kind)
+        except UnitError as exc:
+            raise _Bad(exc.problem, fix=exc.fix) from None
     if isinstance(value, bool) or not isinstance(value, int | float):
         raise _Bad(f"expected a number, got {_show(value)}")
     try:
@@ -200,29 +249,29 @@ def _number(value: Any) -> float:
     return x
 
 
-def _positive(value: Any) -> float:
-    x = _number(value)
+def _positive(value: Any, kind: str | None = None) -> float:
+    x = _number(value, kind)
     if not x > 0:
         raise _Bad(f"must be > 0, got {_show(value)}")
     return x
 
 
-def _non_negative(value: Any) -> float:
-    x = _number(value)
+def _non_negative(value: Any, kind: str | None = None) -> float:
+    x = _number(value, kind)
     if x < 0:
         raise _Bad(f"must be >= 0, got {_show(value)}")
     return x
 
 
 def _fraction(value: Any) -> float:
-    x = _number(value)
+    x = _number(value, "fraction")
     if not 0 <= x <= 1:
         raise _Bad(f"must be between 0 and 1, got {_show(value)}")
     return x
 
 
 def _tolerance(value: Any) -> float:
-    x = _number(value)
+    x = _number(value, "fraction")
     if not 0 < x <= 0.1:
         raise _Bad(f"must be > 0 and at most 0.1, got {_show(value)}")
     return x
@@ -239,7 +288,7 @@ def _above_absolute_zero(x: float, at: tuple[str | int, ...] = ()) -> float:
 
 
 def _temperature(value: Any) -> float:
-    return _above_absolute_zero(_number(value))
+    return _above_absolute_zero(_number(value, "temperature"))
 
 
 def _text(value: Any) -> str:
@@ -270,15 +319,15 @@ def _choice(options: tuple[str, ...], value: Any) -> str:
     raise _Bad(f"must be one of {listed}, got {_show(value)}", fix=hint)
 
 
-def _numbers(value: Any) -> tuple[float, ...]:
+def _numbers(value: Any, kind: str | None = None) -> tuple[float, ...]:
     if not isinstance(value, list | tuple):
         raise _Bad(f"expected a list of numbers, got {_show(value)}")
     out = []
     for i, item in enumerate(value):
         try:
-            out.append(_number(item))
+            out.append(_number(item, kind))
         except _Bad as bad:
-            raise _Bad(bad.problem, at=(i,)) from None
+            raise _Bad(bad.problem, fix=bad.fix, at=(i,)) from None
     return tuple(out)
 
 
@@ -291,7 +340,7 @@ def _sizes(value: Any) -> tuple[float, ...]:
 
 
 def _point(value: Any) -> tuple[float, ...]:
-    point = _numbers(value)
+    point = _numbers(value, "length")
     if len(point) not in (2, 3):
         raise _Bad(
             f"expected 2 or 3 coordinates, got {len(point)}: {_show(value)}",
@@ -300,103 +349,208 @@ def _point(value: Any) -> tuple[float, ...]:
     return point
 
 
-def _rows(value: list | tuple, first: str, second: str) -> list[tuple[float, float]]:
-    """Read ``[[a, b], ...]`` as pairs of finite numbers; errors name the row."""
+def _rows(
+    value: list | tuple,
+    first: str,
+    second: str,
+    kinds: tuple[str | None, str | None] = (None, None),
+) -> list[tuple[float, float]]:
+    """Read ``[[a, b], ...]`` as pairs of finite numbers (text with units converted by
+    `kinds`); errors name the row."""
     fix = f"write each row as [{first}, {second}]"
     rows = []
     for i, row in enumerate(value):
         if not isinstance(row, list | tuple) or len(row) != 2:
             raise _Bad(f"each row must be 2 numbers, got {_show(row)}", fix=fix, at=(i,))
         try:
-            rows.append((_number(row[0]), _number(row[1])))
+            rows.append((_number(row[0], kinds[0]), _number(row[1], kinds[1])))
         except _Bad as bad:
-            raise _Bad(f"{bad.problem} in row {_show(row)}", fix=fix, at=(i,)) from None
+            raise _Bad(f"{bad.problem} in row {_show(row)}", fix=bad.fix or fix, at=(i,)) from None
     return rows
 
 
-def _schedule(value: Any, *, temperature: bool) -> float | Table:
-    """A constant or ``[[time_s, value], ...]``; temperatures must be above absolute zero."""
-    second = "temperature_C" if temperature else "value"
-    if not isinstance(value, list | tuple):
-        try:
-            x = _number(value)
-        except _Bad:
+def _unit_rows(
+    value: dict, first: str, second: str, kinds: tuple[str, str]
+) -> list[tuple[float, float]]:
+    """``{units = [u1, u2], rows = [[a, b], ...]}``: rows of bare numbers in the given units,
+    converted to base units (offset scales such as degF handled)."""
+    for key in value:
+        if key not in ("units", "rows"):
             raise _Bad(
-                f"expected a number or a table [[time_s, {second}], ...], got {_show(value)}"
+                "unknown key in a table with units",
+                fix=f'write {{units = ["...", "..."], rows = [[{first}, {second}], ...]}}',
+                at=(key,),
+            )
+    units = value.get("units")
+    texts = isinstance(units, list | tuple) and all(isinstance(u, str) for u in units)
+    if not (texts and len(units) == 2):
+        raise _Bad(
+            f"expected 2 units in quotes, one per column, got {_show(units)}",
+            fix=f'give units = ["...", "..."] for [{first}, {second}], e.g. ["h", "degF"]',
+            at=("units",),
+        )
+    raw = value.get("rows")
+    if not isinstance(raw, list | tuple) or not raw:
+        raise _Bad(
+            f"expected rows [[{first}, {second}], ...], got {_show(raw)}",
+            fix="give one or more rows of 2 numbers in the units named",
+            at=("rows",),
+        )
+    scales = []
+    for j, (unit, kind) in enumerate(zip(units, kinds, strict=True)):
+        try:
+            one, zero = to_si(f"1 {unit}", kind), to_si(f"0 {unit}", kind)
+        except UnitError as exc:
+            problem = exc.problem.replace(repr(f"1 {unit}"), f"unit {unit!r}")
+            raise _Bad(problem, fix=exc.fix, at=("units", j)) from None
+        scales.append((zero, one - zero))
+    try:
+        rows = _rows(raw, first, second)
+    except _Bad as bad:
+        raise _Bad(bad.problem, fix=bad.fix, at=("rows", *bad.at)) from None
+    (a0, s0), (a1, s1) = scales
+    return [(a0 + s0 * x, a1 + s1 * y) for x, y in rows]
+
+
+def _schedule(value: Any, *, temperature: bool, kind: str = "flux") -> Any:
+    """A constant, ``[[time_s, value], ...]``, a table with units, or (for temperatures) a
+    furnace program; temperatures must be above absolute zero."""
+    second = "temperature_C" if temperature else "value"
+    kinds = ("time", "temperature" if temperature else kind)
+    at: tuple[str | int, ...] = ()
+    if temperature and isinstance(value, Program):
+        return value
+    if isinstance(value, dict) and temperature and not {"units", "rows"} & set(value):
+        return _sub_record(Program, value)
+    if isinstance(value, dict):
+        rows = _unit_rows(value, "time", second, kinds)
+        at = ("rows",)
+    elif not isinstance(value, list | tuple):
+        try:
+            x = _number(value, kinds[1])
+        except _Bad as bad:
+            if isinstance(value, str):
+                raise
+            more = " or a program {start, steps}" if temperature else ""
+            raise _Bad(
+                f"expected a number or a table [[time_s, {second}], ...]{more}, got {_show(value)}",
+                fix=bad.fix,
             ) from None
         return _above_absolute_zero(x) if temperature else x
-    if not value:
+    elif not value:
         raise _Bad(
             "the table is empty",
             fix=f"give a single number, or rows [[time_s, {second}], ...]",
         )
-    rows = _rows(value, "time_s", second)
+    else:
+        rows = _rows(value, "time_s", second, kinds)
     for i, (t, v) in enumerate(rows):
         if t < 0:
             raise _Bad(
                 f"times must be >= 0, got t={_num(t)}",
                 fix="count time in seconds from the start of the run (t=0)",
-                at=(i,),
+                at=(*at, i),
             )
         if i and t <= rows[i - 1][0]:
             raise _Bad(
                 f"times must increase; got t={_num(t)} after t={_num(rows[i - 1][0])}",
                 fix="list the rows in order of time, each time larger than the one before",
-                at=(i,),
+                at=(*at, i),
             )
         if temperature:
-            _above_absolute_zero(v, at=(i,))
+            _above_absolute_zero(v, at=(*at, i))
     return tuple(rows)
 
 
-def _property(value: Any) -> float | Table:
-    """A positive constant or ``[[temperature_C, value], ...]`` with two or more rows."""
-    if not isinstance(value, list | tuple):
+def _property(value: Any, kind: str | None = None) -> float | Table:
+    """A positive constant, ``[[temperature_C, value], ...]`` with two or more rows, or the
+    same rows as ``{units = [...], rows = [...]}``."""
+    at: tuple[str | int, ...] = ()
+    if isinstance(value, dict) and kind is not None:
+        rows = _unit_rows(value, "temperature", "value", ("temperature", kind))
+        at = ("rows",)
+    elif not isinstance(value, list | tuple):
         try:
-            x = _number(value)
-        except _Bad:
+            x = _number(value, kind)
+        except _Bad as bad:
+            if isinstance(value, str):
+                raise
             raise _Bad(
                 "expected a positive number or a table [[temperature_C, value], ...], "
-                f"got {_show(value)}"
+                f"got {_show(value)}",
+                fix=bad.fix,
             ) from None
         if not x > 0:
             raise _Bad(f"must be > 0, got {_show(value)}")
         return x
-    if len(value) < 2:
+    else:
+        rows = _rows(value, "temperature_C", "value", ("temperature", kind))
+    if len(rows) < 2:
         raise _Bad(
-            f"a table needs at least 2 rows [temperature_C, value], got {len(value)}",
+            f"a table needs at least 2 rows [temperature_C, value], got {len(rows)}",
             fix="give a single number for a constant, or two or more rows",
         )
-    rows = _rows(value, "temperature_C", "value")
     for i, (temp, v) in enumerate(rows):
-        _above_absolute_zero(temp, at=(i,))
+        _above_absolute_zero(temp, at=(*at, i))
         if i and temp <= rows[i - 1][0]:
             raise _Bad(
                 f"temperatures must increase; got T={_num(temp)} after T={_num(rows[i - 1][0])}",
                 fix="list the rows in order of temperature, without repeats",
-                at=(i,),
+                at=(*at, i),
             )
         if not v > 0:
             raise _Bad(
                 f"values must be > 0, got {_num(v)} at T={_num(temp)}",
                 fix="check the units and the sign of the value in this row",
-                at=(i,),
+                at=(*at, i),
             )
     return tuple(rows)
+
+
+def _sub_record(record: type[BaseModel], value: Any) -> Any:
+    """Validate a nested record inside a field check; its first problem becomes a `_Bad`."""
+    try:
+        return record.model_validate(value)
+    except ValidationError as exc:
+        try:
+            loc, problem, fix = _explain(exc, record)
+        except Exception:  # never let a bug in the message hide the problem
+            first = exc.errors(include_url=False)[0]
+            loc, problem = tuple(first["loc"]), str(first.get("msg"))
+            fix = "see the case file format in the femheat.case module documentation"
+        raise _Bad(problem, fix=fix, at=loc) from None
+
+
+def _positive_of(kind: str) -> Any:
+    return Annotated[float, BeforeValidator(partial(_positive, kind=kind))]
+
+
+def _non_negative_of(kind: str) -> Any:
+    return Annotated[float, BeforeValidator(partial(_non_negative, kind=kind))]
 
 
 _Number = Annotated[float, BeforeValidator(_number)]
 _Positive = Annotated[float, BeforeValidator(_positive)]
 _NonNegative = Annotated[float, BeforeValidator(_non_negative)]
+_Length = _positive_of("length")
+_Time = _positive_of("time")
+_TimeOrZero = _non_negative_of("time")
+_Density = _positive_of("density")
+_Htc = _non_negative_of("htc")
+_Rate = _positive_of("rate")
 _Fraction = Annotated[float, BeforeValidator(_fraction)]
 _Temperature = Annotated[float, BeforeValidator(_temperature)]
 _Text = Annotated[str, BeforeValidator(_text)]
-_TemperatureSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperature=True))]
-_ValueSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperature=False))]
+_FluxSchedule = Annotated[Schedule, BeforeValidator(partial(_schedule, temperature=False))]
+_ValueSchedule = _FluxSchedule
+_Conductivity = Annotated[Property, BeforeValidator(partial(_property, kind="conductivity"))]
+_SpecificHeat = Annotated[Property, BeforeValidator(partial(_property, kind="specific_heat"))]
 _Property = Annotated[Property, BeforeValidator(_property)]
 
 ModelKind = Literal["planar", "axisymmetric", "solid"]
-Condition = Literal["furnace", "insulated", "symmetry", "convection", "fixed", "flux"]
+Condition = Literal[
+    "furnace", "insulated", "symmetry", "convection", "fixed", "flux", "hearth", "zone"
+]
 ElementKind = Literal["P1", "P2"]
 
 
@@ -462,25 +616,234 @@ class Part(BaseModel):
 
 
 class Material(_Record):
-    """Material properties; conductivity and specific heat may depend on temperature."""
+    """Material properties; conductivity and specific heat may depend on temperature.
 
-    density: _Positive = Field(description="the density in kg/m3", examples=["7850"])
-    conductivity: _Property = Field(
+    ``name`` picks a library entry (``femheat materials``); the three properties then become
+    optional overrides. A ``table_file`` gives properties as CSV columns. Otherwise all three
+    properties are required and ``name`` is only a label.
+    """
+
+    density: _Density | None = Field(
+        None, description="the density in kg/m3", examples=["7850"]
+    )
+    conductivity: _Conductivity | None = Field(
+        None,
         description="the thermal conductivity in W/(m K), a number or [[temperature_C, k], ...]",
         examples=["36"],
     )
-    specific_heat: _Property = Field(
+    specific_heat: _SpecificHeat | None = Field(
+        None,
         description="the specific heat in J/(kg K), a number or [[temperature_C, c], ...]",
         examples=["460"],
     )
-    name: _Text = Field("", description="the material name", examples=['"C45 steel"'])
+    name: _Text = Field(
+        "",
+        description="a library material (list them with femheat materials), or a label",
+        examples=['"carbon-steel-en1993"'],
+    )
+    table_file: _Text | None = Field(
+        None,
+        description="a CSV file of properties against temperature, relative to the case file",
+        examples=['"steel.csv"'],
+    )
+
+    @property
+    def library_entry(self):
+        """The `femheat.library.Entry` that ``name`` picks, or None."""
+        from femheat.library import find
+
+        return find(self.name) if self.name.strip() else None
+
+    @model_validator(mode="after")
+    def _complete(self) -> Material:
+        if self.table_file is not None or self.library_entry is not None:
+            return self
+        keys = ("density", "conductivity", "specific_heat")
+        missing = [key for key in keys if getattr(self, key) is None]
+        if not missing:
+            return self
+        if self.name.strip():
+            from femheat.library import suggest
+
+            close = suggest(self.name)
+            hint = f"did you mean {close!r}? " if close else ""
+            raise _Bad(
+                f"{self.name!r} is not in the material library, and "
+                f"{', '.join(missing)} {'is' if len(missing) == 1 else 'are'} not given",
+                fix=f"{hint}pick a library material (femheat materials lists them), "
+                f"or give {', '.join(missing)}",
+                at=("name",),
+            )
+        info = type(self).model_fields[missing[0]]
+        raise _Bad(
+            "missing",
+            fix=f"add {missing[0]} = {info.examples[0]} ({info.description}), or pick a "
+            'library material, e.g. name = "carbon-steel-en1993" (femheat materials lists them)',
+            at=(missing[0],),
+        )
+
+
+class RateLimit(_Record):
+    """A heating and cooling rate limit that falls with the part thickness.
+
+    The limit is ``rate * reference_thickness / thickness``, but never above ``max_rate``
+    (default: the rate itself) and never below ``min_rate``. It applies to the parts of ramps
+    above ``above`` (default: everywhere).
+    """
+
+    heating: _Rate = Field(
+        description="the largest heating rate for the reference thickness, e.g. '222 degC/h'",
+        examples=['"222 degC/h"'],
+    )
+    cooling: _Rate | None = Field(
+        None,
+        description="the largest cooling rate for the reference thickness, e.g. '278 degC/h'",
+        examples=['"278 degC/h"'],
+    )
+    reference_thickness: _Length = Field(
+        0.0254, description="the thickness the rates are for, default 1 in", examples=['"1 in"']
+    )
+    min_rate: _Rate | None = Field(
+        None,
+        description="a rate the limit never falls below, e.g. '56 degC/h'",
+        examples=['"56 degC/h"'],
+    )
+    max_rate: _Rate | None = Field(
+        None,
+        description="a rate the limit never exceeds (default: the rate as given)",
+        examples=['"222 degC/h"'],
+    )
+    above: _Temperature | None = Field(
+        None,
+        description="the furnace temperature above which the limit applies, e.g. '425 C'",
+        examples=['"425 C"'],
+    )
+    thickness: _Length | None = Field(
+        None,
+        description="the governing thickness of the part (default: the part's thinnest "
+        "modelled section)",
+        examples=['"50 mm"'],
+    )
+
+
+_STEP_KEYS = ("ramp_to", "cool_to", "hold")
+
+
+class ProgramStep(_Record):
+    """One segment of a furnace program: a ramp (or cooling) to a setpoint, or a hold."""
+
+    ramp_to: _Temperature | None = Field(
+        None, description="the setpoint to heat or cool to", examples=['"620 C"']
+    )
+    cool_to: _Temperature | None = Field(
+        None,
+        description="the setpoint to cool to (below the one before)",
+        examples=['"300 C"'],
+    )
+    rate: _Rate | None = Field(
+        None,
+        description="the ramp rate, e.g. '100 degC/h' (a bare number is K/s)",
+        examples=['"100 degC/h"'],
+    )
+    duration: _Time | None = Field(
+        None, description="the time the ramp takes, instead of a rate", examples=['"2 h"']
+    )
+    hold: _Time | None = Field(
+        None, description="the time to hold the setpoint", examples=['"2 h"']
+    )
+
+    @model_validator(mode="before")
+    @classmethod
+    def _one_kind(cls, data: Any) -> Any:
+        if not isinstance(data, dict) or any(key not in cls.model_fields for key in data):
+            return data
+        given = [key for key in _STEP_KEYS if data.get(key) is not None]
+        if len(given) != 1:
+            raise _Bad(
+                f"a step needs exactly one of ramp_to, cool_to or hold, got {len(given)}"
+                + (f" ({', '.join(given)})" if given else ""),
+                fix='write e.g. {ramp_to = "620 C", rate = "100 degC/h"} or {hold = "2 h"}',
+            )
+        if given == ["hold"]:
+            for key in ("rate", "duration"):
+                if data.get(key) is not None:
+                    raise _Bad(
+                        f"{key} does not apply to a hold",
+                        fix=f"remove {key}, or make this step a ramp_to",
+                        at=(key,),
+                    )
+        elif data.get("rate") is not None and data.get("duration") is not None:
+            raise _Bad(
+                "give either rate or duration for a ramp, not both",
+                fix="remove one of them",
+                at=("duration",),
+            )
+        return data
+
+    @property
+    def setpoint(self) -> float | None:
+        """The temperature this step ends at (C), or None for a hold."""
+        return self.ramp_to if self.ramp_to is not None else self.cool_to
+
+
+class Program(_Record):
+    """A furnace program: a start temperature and steps (ramps, holds, cooling) from t = 0."""
+
+    start: _Temperature = Field(
+        description="the furnace temperature at the start of the run", examples=['"400 C"']
+    )
+    steps: list[ProgramStep] = Field(
+        description="the steps, e.g. [{ramp_to = \"620 C\", rate = \"100 degC/h\"}, "
+        '{hold = "2 h"}]',
+        examples=['[{ramp_to = "620 C", rate = "100 degC/h"}, {hold = "2 h"}]'],
+    )
+    limit: RateLimit | None = Field(
+        None,
+        description="a thickness-dependent rate limit on the ramps",
+        examples=['{heating = "222 degC/h", min_rate = "56 degC/h", above = "425 C"}'],
+    )
+
+    @model_validator(mode="after")
+    def _steps_follow(self) -> Program:
+        if not self.steps:
+            raise _Bad(
+                "a program needs at least one step",
+                fix='add steps = [{ramp_to = "...", rate = "..."}, {hold = "..."}]',
+                at=("steps",),
+            )
+        setpoint = self.start
+        for i, step in enumerate(self.steps):
+            if step.hold is not None:
+                continue
+            target = step.setpoint
+            key = "ramp_to" if step.ramp_to is not None else "cool_to"
+            if target == setpoint:
+                raise _Bad(
+                    f"{target:.6g} C is already the setpoint; a ramp must change it",
+                    fix="use hold for a constant temperature",
+                    at=("steps", i, key),
+                )
+            if key == "cool_to" and target > setpoint:
+                raise _Bad(
+                    f"cool_to {target:.6g} C is above the setpoint before it ({setpoint:.6g} C)",
+                    fix="use ramp_to to heat, or give a lower temperature",
+                    at=("steps", i, key),
+                )
+            setpoint = target
+        return self
+
+
+_TemperatureSchedule = Annotated[
+    float | Table | Program, BeforeValidator(partial(_schedule, temperature=True))
+]
 
 
 class Furnace(_Record):
     """The furnace atmosphere and walls seen by faces with the ``furnace`` condition."""
 
     temperature: _TemperatureSchedule = Field(
-        description="the furnace gas temperature in C, a number or [[time_s, temperature_C], ...]",
+        description="the furnace gas temperature in C, a number, [[time_s, temperature_C], ...] "
+        "or a program {start, steps}",
         examples=["850"],
     )
     wall_temperature: _TemperatureSchedule | None = Field(
@@ -488,7 +851,7 @@ class Furnace(_Record):
         description="the furnace wall temperature in C for radiation (default: the gas)",
         examples=["860"],
     )
-    htc: _NonNegative = Field(
+    htc: _Htc = Field(
         description="the convective heat transfer coefficient in W/(m2 K), >= 0",
         examples=["180"],
     )
@@ -499,12 +862,14 @@ class Furnace(_Record):
 
 _FACE_KEYS: dict[str, tuple[tuple[str, ...], tuple[str, ...]]] = {
     # condition: (required keys, optional keys)
-    "furnace": ((), ()),
+    "furnace": ((), ("radiation_factor",)),
     "insulated": ((), ()),
     "symmetry": ((), ()),
-    "convection": (("htc", "ambient"), ("emissivity", "wall")),
+    "convection": (("htc", "ambient"), ("emissivity", "wall", "radiation_factor")),
     "fixed": (("temperature",), ()),
     "flux": (("flux",), ()),
+    "hearth": (("conductance",), ("hearth_temperature",)),
+    "zone": (("ambient",), ("wall", "htc", "emissivity", "radiation_factor")),
 }
 
 
@@ -512,13 +877,15 @@ class Face(_Record):
     """The condition on one named face; only the keys its condition uses are set.
 
     For ``convection``, ``emissivity`` defaults to 0 and ``wall`` to the ambient schedule.
+    For ``zone``, ``htc`` and ``emissivity`` default to the furnace's and ``wall`` to the
+    zone's ``ambient``; for ``hearth``, ``hearth_temperature`` defaults to the furnace gas.
     """
 
     condition: Annotated[Condition, _one_of(Condition)] = Field(
         description="the condition: " + ", ".join(repr(c) for c in get_args(Condition)),
         examples=['"insulated"'],
     )
-    htc: _NonNegative | None = Field(
+    htc: _Htc | None = Field(
         None, description="the heat transfer coefficient in W/(m2 K), >= 0", examples=["10"]
     )
     ambient: _TemperatureSchedule | None = Field(
@@ -539,10 +906,26 @@ class Face(_Record):
         description="the face temperature in C, a number or [[time_s, temperature_C], ...]",
         examples=["100"],
     )
-    flux: _ValueSchedule | None = Field(
+    flux: _FluxSchedule | None = Field(
         None,
         description="the heat flux in W/m2 into the part, a number or [[time_s, flux], ...]",
         examples=["5000"],
+    )
+    radiation_factor: _Fraction | None = Field(
+        None,
+        description="the share of the radiation the face receives, 0 (shielded) to 1 (open), "
+        "multiplying the emissivity",
+        examples=["0.5"],
+    )
+    conductance: _Htc | None = Field(
+        None,
+        description="the contact conductance to the hearth in W/(m2 K), >= 0 (0: insulated)",
+        examples=["200"],
+    )
+    hearth_temperature: _TemperatureSchedule | None = Field(
+        None,
+        description="the hearth temperature in C (default: the furnace gas temperature)",
+        examples=["600"],
     )
 
     @model_validator(mode="before")
@@ -582,12 +965,51 @@ class Face(_Record):
         return data
 
 
-class Initial(_Record):
-    """The uniform starting temperature."""
+_INITIAL_KEYS = ("temperature", "from_run", "from_file")
 
-    temperature: _Temperature = Field(
-        description="the starting temperature of the part in C", examples=["20"]
+
+class Initial(_Record):
+    """The starting state: a uniform temperature, or a field saved by an earlier run or in a
+    VTK file (exactly one of the three)."""
+
+    temperature: _Temperature | None = Field(
+        None, description="the uniform starting temperature of the part in C", examples=["20"]
     )
+    from_run: _Text | None = Field(
+        None,
+        description="the results folder of an earlier run whose final field is the start, "
+        "relative to the case file",
+        examples=['"heatup_results"'],
+    )
+    from_file: _Text | None = Field(
+        None,
+        description="a VTK file (.vtu, .vtk or .pvd) with the starting field as point data, "
+        "relative to the case file",
+        examples=['"start.vtu"'],
+    )
+    field: _Text = Field(
+        "temperature_C",
+        description="the point-data name of the temperature (C) in the VTK file",
+        examples=['"temperature_C"'],
+    )
+
+    @model_validator(mode="after")
+    def _one_source(self) -> Initial:
+        given = [key for key in _INITIAL_KEYS if getattr(self, key) is not None]
+        if not given:
+            raise _Bad(
+                "missing",
+                fix='add temperature = 20 (the uniform starting temperature in C), or '
+                'from_run = "folder" (the final field of an earlier run)',
+                at=("temperature",),
+            )
+        if len(given) > 1:
+            raise _Bad(
+                f"give one starting state, got {' and '.join(given)}",
+                fix=f"keep one of {', '.join(given)}",
+                at=(given[1],),
+            )
+        return self
 
 
 class Target(_Record):
@@ -596,7 +1018,7 @@ class Target(_Record):
     temperature: _Temperature = Field(
         description="the temperature in C every point of the part must reach", examples=["830"]
     )
-    hold: _NonNegative = Field(
+    hold: _TimeOrZero = Field(
         0.0,
         description="the time in s to keep running after every point reached the target, >= 0",
         examples=["600"],
@@ -606,7 +1028,7 @@ class Target(_Record):
 class MeshSpec(_Record):
     """Mesh controls."""
 
-    size: _Positive | None = Field(
+    size: _Length | None = Field(
         None, description="the element size in m, > 0", examples=["0.002"]
     )
     element: Annotated[ElementKind, _one_of(ElementKind)] = Field(
@@ -629,7 +1051,7 @@ class Probe(_Record):
 class SolverSpec(_Record):
     """Time stepping controls."""
 
-    end_time: _Positive | None = Field(
+    end_time: _Time | None = Field(
         None, description="the time in s to stop at, > 0", examples=["7200"]
     )
     tolerance: Annotated[float, BeforeValidator(_tolerance)] = Field(
@@ -638,13 +1060,13 @@ class SolverSpec(_Record):
         "in (0, 0.1]",
         examples=["2e-5"],
     )
-    max_step: _Positive | None = Field(
+    max_step: _Time | None = Field(
         None, description="the largest time step in s, > 0", examples=["60"]
     )
-    first_step: _Positive | None = Field(
+    first_step: _Time | None = Field(
         None, description="the first time step in s, > 0", examples=["1"]
     )
-    fixed_step: _Positive | None = Field(
+    fixed_step: _Time | None = Field(
         None,
         description="a constant time step in s with no error control (for accuracy studies)",
         examples=["10"],
@@ -654,7 +1076,7 @@ class SolverSpec(_Record):
 class OutputSpec(_Record):
     """What a run saves besides summary.json and history.csv."""
 
-    interval: _Positive | None = Field(
+    interval: _Time | None = Field(
         None,
         description="save a field frame every this many seconds of simulated time "
         "(frames are always saved at the target crossing and at the end)",
@@ -692,7 +1114,11 @@ class Case(_Record):
 
     @model_validator(mode="after")
     def _parts_agree(self) -> Case:
-        if self.target is not None and self.target.temperature == self.initial.temperature:
+        if (
+            self.target is not None
+            and self.initial.temperature is not None
+            and self.target.temperature == self.initial.temperature
+        ):
             raise _Bad(
                 f"target equals the initial temperature ({_num(self.target.temperature)} C); "
                 "nothing to heat or cool",
@@ -742,9 +1168,10 @@ def _is_record(tp: Any) -> bool:
     return isinstance(tp, type) and issubclass(tp, BaseModel)
 
 
-def _walk(loc: tuple[Any, ...]) -> tuple[str | None, FieldInfo | None, Any]:
-    """Follow ``loc`` through the schema: the last field passed, its info, the type reached."""
-    tp: Any = Case
+def _walk(loc: tuple[Any, ...], root: Any = None) -> tuple[str | None, FieldInfo | None, Any]:
+    """Follow ``loc`` through the schema from `root` (default `Case`): the last field passed,
+    its info, the type reached."""
+    tp: Any = Case if root is None else root
     name: str | None = None
     info: FieldInfo | None = None
     for step in loc:
@@ -816,8 +1243,8 @@ def _one_line(where: str, problem: str, fix: str) -> CaseError:
     return CaseError(where.replace("\n", " "), problem.replace("\n", " "), fix.replace("\n", " "))
 
 
-def _from_validation_error(exc: ValidationError) -> CaseError:
-    """The first problem found, as a CaseError naming its place; unknown keys come first."""
+def _explain(exc: ValidationError, root: Any) -> tuple[tuple[Any, ...], str, str]:
+    """The first problem found below `root`: (place, problem, fix); unknown keys come first."""
     errors = exc.errors(include_url=False)
     first = next((e for e in errors if e["type"] == "extra_forbidden"), errors[0])
     loc = tuple(first["loc"])
@@ -826,25 +1253,25 @@ def _from_validation_error(exc: ValidationError) -> CaseError:
     bad = (first.get("ctx") or {}).get("error")
     if isinstance(bad, _Bad):
         loc += bad.at
-        _, info, _ = _walk(loc)
-        return _one_line(_dotted(loc), bad.problem, bad.fix or _give_fix(info))
+        _, info, _ = _walk(loc, root)
+        return loc, bad.problem, bad.fix or _give_fix(info)
     if kind == "invalid_key" or (kind == "string_type" and loc[-1:] == ("[key]",)):
         loc = loc[:-2] if loc[-1:] == ("[key]",) else loc[:-1]
-        return _one_line(
-            _dotted(loc) or "the top level",
+        return (
+            loc,
             f"keys must be text, got {_show(value)}",
             "use a text key (a TOML bare or quoted key)",
         )
     where = _dotted(loc)
-    name, info, tp = _walk(loc)
+    name, info, tp = _walk(loc, root)
     if kind == "extra_forbidden":
-        _, _, parent = _walk(loc[:-1])
+        _, _, parent = _walk(loc[:-1], root)
         valid = list(parent.model_fields) if _is_record(parent) else []
         close = get_close_matches(str(loc[-1]), valid, n=1)
         hint = f"did you mean {close[0]!r}?" if close else "remove it or correct the spelling;"
-        return _one_line(where, "unknown key", f"{hint} valid keys here: {', '.join(valid)}")
+        return loc, "unknown key", f"{hint} valid keys here: {', '.join(valid)}"
     if kind == "missing":
-        return _one_line(where, "missing", _add_fix(str(loc[-1]), info, where))
+        return loc, "missing", _add_fix(str(loc[-1]), info, where)
     if kind in ("model_type", "model_attributes_type", "dict_type"):
         if _is_record(tp) and loc and isinstance(loc[-1], int):
             fix = f"write each entry as a [[{_dotted(loc[:-1])}]] table with keys "
@@ -853,17 +1280,23 @@ def _from_validation_error(exc: ValidationError) -> CaseError:
             fix = f"write [{where}] as a table with keys {', '.join(tp.model_fields)}"
         else:
             fix = f"write one [{where}.NAME] table per entry"
-        return _one_line(where, f"expected a table, got {_show(value)}", fix)
+        return loc, f"expected a table, got {_show(value)}", fix
     if kind in ("list_type", "tuple_type"):
-        return _one_line(
-            where,
+        return (
+            loc,
             f"expected a list, got {_show(value)}",
             f"write one [[{where}]] table (double brackets) per entry"
             if get_origin(tp) is list
             else _give_fix(info),
         )
     message = str(first.get("msg", "invalid value"))
-    return _one_line(where, f"{message}, got {_show(value)}", _give_fix(info))
+    return loc, f"{message}, got {_show(value)}", _give_fix(info)
+
+
+def _from_validation_error(exc: ValidationError) -> CaseError:
+    """The first problem found, as a CaseError naming its place; unknown keys come first."""
+    loc, problem, fix = _explain(exc, Case)
+    return _one_line(_dotted(loc) or "the top level", problem, fix)
 
 
 # --- entry points --------------------------------------------------------------------------

@@ -38,13 +38,32 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument("case", help="case file (TOML)")
     r.add_argument("--out", help="results folder (default: <case name>_results)")
     r.add_argument("--quiet", action="store_true", help="print only the one-line result")
+    r.add_argument(
+        "--units", choices=("si", "us"), default="si", help="also print F and inches (us)"
+    )
 
     d = sub.add_parser("demo", help="run the built-in demonstration case")
     d.add_argument("--out", default="femheat_demo", help="results folder (default: %(default)s)")
     d.add_argument("--quiet", action="store_true", help="print only the one-line result")
+    d.add_argument(
+        "--units", choices=("si", "us"), default="si", help="also print F and inches (us)"
+    )
 
     c = sub.add_parser("check", help="check a case file and its mesh without running it")
     c.add_argument("case", help="case file (TOML)")
+
+    from .mesh_cli import add_parser as add_mesh_parser
+
+    add_mesh_parser(sub)
+    from .estimate_cli import add_parser as add_estimate_parser
+
+    add_estimate_parser(sub)
+    from .materials_cli import add_parser as add_materials_parser
+
+    add_materials_parser(sub)
+    from .shapes_cli import add_parser as add_shapes_parser
+
+    add_shapes_parser(sub)
     return p
 
 
@@ -53,16 +72,16 @@ def demo_case_text() -> str:
     return resources.files("femheat").joinpath("data/demo.toml").read_text(encoding="utf-8")
 
 
-def _print_result(result, out: Path, console, quiet: bool) -> None:
+def _print_result(result, out: Path, console, quiet: bool, units: str = "si") -> None:
     from .output.summary import hours_minutes
+    from .units import show_difference, show_length, show_temperature
 
     tw = result.target
     p = result.problem
     if tw is not None and tw.reached:
-        pt = ", ".join(f"{1000 * v:.1f}" for v in tw.last_point)
         line = (
-            f"through at {tw.target:g} C after {hours_minutes(tw.time)} h:min "
-            f"({tw.time:.0f} s); last point ({pt}) mm"
+            f"through at {show_temperature(tw.target, units)} after {hours_minutes(tw.time)} "
+            f"h:min ({tw.time:.0f} s); last point {show_length(tw.last_point, units)}"
         )
     elif tw is not None:
         line = f"NOT REACHED: {result.reason}"
@@ -79,11 +98,10 @@ def _print_result(result, out: Path, console, quiet: bool) -> None:
     )
     if tw is not None and tw.reached:
         console.print(
-            f"  [bold green]time to target[/bold green] {tw.target:g} C: "
+            f"  [bold green]time to target[/bold green] {show_temperature(tw.target, units)}: "
             f"{hours_minutes(tw.time)} h:min ({tw.time:.0f} s)"
         )
-        pt = ", ".join(f"{1000 * v:.1f}" for v in tw.last_point)
-        console.print(f"  last point to reach it ({axes}): ({pt}) mm")
+        console.print(f"  last point to reach it ({axes}): {show_length(tw.last_point, units)}")
     elif tw is not None:
         console.print(f"  [bold red]target not reached[/bold red]: {result.reason}")
     else:
@@ -91,7 +109,8 @@ def _print_result(result, out: Path, console, quiet: bool) -> None:
     h = result.history
     console.print(
         f"  largest surface-to-core difference (max - min over the part): "
-        f"{h.largest_spread:.1f} K at {hours_minutes(h.largest_spread_time)} h:min"
+        f"{show_difference(h.largest_spread, units)} at "
+        f"{hours_minutes(h.largest_spread_time)} h:min"
     )
     for i, name in enumerate(result.probes.names):
         ct = result.probes.crossing[i]
@@ -102,27 +121,54 @@ def _print_result(result, out: Path, console, quiet: bool) -> None:
         f"  energy balance: heat in {e.total_in:.4g}, stored {e.stored:.4g} "
         f"({'J/m' if p.part_model == 'planar' else 'J'}), error {100 * e.relative_error:.3f} %"
     )
+    from .estimate_cli import run_lines
+    from .estimates import assess_run
+
+    for line in run_lines(assess_run(result)):
+        console.print(f"  {line}", markup=False)
     for w in result.warnings:
         console.print(f"  [yellow]warning:[/yellow] {w}")
-    console.print(f"  results in {out}/ (summary.json, history.csv)")
+    files = ("summary.json", "history.csv", "report.html", "fields.pvd")
+    written = [n for n in files if (out / n).exists()] + [f"{len(list(out.glob('*.png')))} PNG"]
+    console.print(f"  results in {out}/ ({', '.join(written)})")
     console.print(f"[dim]{CAUTION}[/dim]")
 
 
-def _run_case(case, out: Path, console, quiet: bool) -> int:
-    from .output.summary import write_history, write_summary
+def _print_schedule(problem, console, units: str) -> None:
+    """The furnace schedule the run will use, as a short table."""
+    from .program import schedule_lines
+
+    walls = problem.furnace_wall != problem.furnace_gas
+    console.print("  furnace gas temperature:" if walls else "  furnace temperature:")
+    for line in schedule_lines(problem.furnace_gas, units):
+        console.print(f"    {line}", markup=False)
+    if walls:
+        console.print("  furnace wall temperature:")
+        for line in schedule_lines(problem.furnace_wall, units):
+            console.print(f"    {line}", markup=False)
+
+
+def _run_case(case, out: Path, console, quiet: bool, units: str = "si", case_text="") -> int:
+    from .api import Results, recorder_for
+    from .output.progress import RunProgress
     from .problem import build_problem
     from .run import run_problem
 
     _writable(out)
     problem = build_problem(case)
-    result = run_problem(problem)
+    if not quiet:
+        _print_schedule(problem, console, units)
+    recorder = recorder_for(problem, case.output, out)  # field frames written as they come
+    with RunProgress.for_problem(console, problem, enabled=not quiet) as bar:
+        result = run_problem(problem, observers=[recorder, bar])
+    recorder.finish()
     try:
-        write_summary(out, result)
-        write_history(out, result)
+        # summary.json, history.csv, then the plots, pictures and report.html per [output]
+        Results(result, recorder, case, case_text).save(out)
     except OSError as exc:
-        _print_result(result, out, console, quiet)
+        _print_result(result, out, console, quiet, units)
         raise FemheatError(f"results could not be written to {out}: {exc}") from None
-    _print_result(result, out, console, quiet)
+    _print_result(result, out, console, quiet, units)
     return 0
 
 
@@ -177,12 +223,29 @@ def main(argv: list[str] | None = None) -> int:
             _writable(out)
             (out / "demo_case.toml").write_text(text, encoding="utf-8")
             case = parse_case(tomllib.loads(text), source="demo case")
-            return _run_case(case, out, console, args.quiet)
+            return _run_case(case, out, console, args.quiet, args.units, text)
+        if args.command == "estimate":
+            from .estimate_cli import run as run_estimate
+
+            return run_estimate(args, console)
+        if args.command == "materials":
+            from .materials_cli import run as run_materials
+
+            return run_materials(args, console)
+        if args.command == "mesh":
+            from .mesh_cli import run as run_mesh
+
+            return run_mesh(args, console)
+        if args.command == "shapes":
+            from .shapes_cli import run as run_shapes
+
+            return run_shapes(args, console)
         case = load_case(args.case)
         if args.command == "check":
             return _check(case, console)
         out = Path(args.out) if args.out else Path(f"{Path(args.case).stem}_results")
-        return _run_case(case, out, console, args.quiet)
+        text = Path(args.case).read_text(encoding="utf-8")  # echoed in report.html
+        return _run_case(case, out, console, args.quiet, args.units, text)
     except CaseError as exc:
         err.print(f"error: {exc}", markup=False)
         return 2

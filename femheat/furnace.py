@@ -6,7 +6,9 @@ in kelvin inside the radiation term:
     q = h (T_gas - T) + eps * sigma * (T_wall^4 - T^4)
 
 A fixed-temperature face prescribes T; a flux face prescribes q; an insulated (or symmetry)
-face has q = 0.
+face has q = 0; a face resting on a hearth exchanges q = h_c (T_hearth - T) through a contact
+conductance h_c. A shielded face has its emissivity times view (``Exposure.emissivity``)
+reduced by its radiation factor when the case is read.
 """
 
 from __future__ import annotations
@@ -23,8 +25,10 @@ __all__ = [
     "Insulated",
     "FixedTemperature",
     "HeatFlux",
+    "Contact",
     "FaceCondition",
     "exposure_flux",
+    "contact_flux",
 ]
 
 KELVIN = 273.15
@@ -109,7 +113,20 @@ class HeatFlux:
     flux: Schedule
 
 
-FaceCondition = Exposure | Insulated | FixedTemperature | HeatFlux
+@dataclass(frozen=True)
+class Contact:
+    """A face resting on a hearth (or a support): q = conductance * (T_hearth - T).
+
+    Args:
+        conductance: contact conductance, W/(m2 K) (0: no heat crosses).
+        temperature: hearth temperature schedule, C.
+    """
+
+    conductance: float
+    temperature: Schedule
+
+
+FaceCondition = Exposure | Insulated | FixedTemperature | HeatFlux | Contact
 
 
 def exposure_flux(temperature: np.ndarray, gas_c: float, wall_c: float, htc: float, eps: float):
@@ -129,3 +146,18 @@ def exposure_flux(temperature: np.ndarray, gas_c: float, wall_c: float, htc: flo
     q = htc * (gas_c - temperature) + sigma_eps * (wk**4 - tk**4)
     dq = -htc - 4.0 * sigma_eps * tk**3
     return q, dq
+
+
+def contact_flux(temperature: np.ndarray, hearth_c: float, conductance: float):
+    """Heat flux into the part through a contact face and its derivative.
+
+    Args:
+        temperature: surface temperature(s), C.
+        hearth_c: hearth temperature, C.
+        conductance: contact conductance, W/(m2 K).
+
+    Returns:
+        (q, dq_dT): W/m2 and W/(m2 K).
+    """
+    q = conductance * (hearth_c - temperature)
+    return q, np.full_like(q, -conductance)

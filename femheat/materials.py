@@ -101,12 +101,17 @@ class Material:
         conductivity: W/(m K) against temperature in C.
         specific_heat: J/(kg K) against temperature in C.
         name: label for reports.
+        valid_range: (low, high) temperatures in C over which the source states the data
+            (None: only the table ends apply).
+        source: where the data come from (standard or handbook, with edition and clause).
     """
 
     density: float
     conductivity: Table
     specific_heat: Table
     name: str = ""
+    valid_range: tuple[float, float] | None = None
+    source: str = ""
 
     def capacity(self, temperature):
         """Volumetric heat capacity rho*c in J/(m3 K)."""
@@ -125,8 +130,12 @@ class Material:
         return self.conductivity(temperature) / self.capacity(temperature)
 
     def ranges(self) -> dict[str, tuple[float, float]]:
-        """Valid temperature range of each tabulated property (C)."""
-        return {
+        """Valid temperature range of each tabulated property (C), and the stated range of
+        the data under the key ``"data"`` when the source gives one."""
+        out = {
             "conductivity": self.conductivity.range,
             "specific_heat": self.specific_heat.range,
         }
+        if self.valid_range is not None:
+            out["data"] = (float(self.valid_range[0]), float(self.valid_range[1]))
+        return out

@@ -41,6 +41,8 @@ class PartMesh:
         faces: name -> (F, dim) node indices of the boundary segments or triangles.
         axisymmetric: x is the radius, y the axis; integrals carry the weight r.
         size: nominal element size, m.
+        zones: name -> indices into `cells` of named volume groups (from mesh files; kept
+            for material zones, not used by the solver yet).
     """
 
     points: np.ndarray
@@ -48,6 +50,7 @@ class PartMesh:
     faces: dict[str, np.ndarray]
     axisymmetric: bool = False
     size: float = 0.0
+    zones: dict[str, np.ndarray] = field(default_factory=dict)
     _cache: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -210,7 +213,8 @@ def mesh_part(
         if size is None:
             bbox = gmsh.model.getBoundingBox(-1, -1)
             span = max(bbox[3] - bbox[0], bbox[4] - bbox[1], bbox[5] - bbox[2])
-            thick = shape.thickness(params) if shape.thickness else span / 10.0
+            thick = shape.thickness(params) if shape.thickness else None
+            thick = span / 10.0 if thick is None else thick
             h = default_size(thick, dim)
             nodes = estimated_nodes(measure, h, dim)
             if nodes > DEFAULT_NODES_LIMIT:

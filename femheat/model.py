@@ -9,7 +9,8 @@ Semi-discrete equations for nodal temperatures T (C), P1 elements, lumped capaci
 * phi(T) = int k dT is the Kirchhoff potential; K_ij = int grad N_i . grad N_j w dV is the
   constant unit-conductivity stiffness, so conduction with k(T) costs no re-assembly.
 * F_i = sum over exposed faces of b_i q(T_i, t): b_i = int N_i w dS (lumped, nodal quadrature)
-  and q the face's heat flux law (convection + radiation in kelvin, or a prescribed flux).
+  and q the face's heat flux law (convection + radiation in kelvin, contact with a hearth,
+  or a prescribed flux).
 * w = 1 (planar, per metre depth; solid) or 2 pi r (axisymmetric, the whole body of revolution).
 
 Fixed-temperature faces prescribe T at their nodes; those rows are removed from the system and
@@ -23,7 +24,16 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from .furnace import Exposure, FaceCondition, FixedTemperature, HeatFlux, Insulated, exposure_flux
+from .furnace import (
+    Contact,
+    Exposure,
+    FaceCondition,
+    FixedTemperature,
+    HeatFlux,
+    Insulated,
+    contact_flux,
+    exposure_flux,
+)
 from .materials import Material
 from .mesh import PartMesh
 
@@ -146,6 +156,10 @@ class Model:
                 dflow[g.nodes] += g.weights * dq
             elif isinstance(c, HeatFlux):
                 flow[g.nodes] += g.weights * c.flux(t)
+            elif isinstance(c, Contact):
+                q, dq = contact_flux(temperature[g.nodes], c.temperature(t), c.conductance)
+                flow[g.nodes] += g.weights * q
+                dflow[g.nodes] += g.weights * dq
         return flow, dflow
 
     def face_flows(self, temperature: np.ndarray, t: float, enthalpy_rate: np.ndarray):
@@ -162,6 +176,9 @@ class Model:
                 out[g.name] = float(g.weights @ q)
             elif isinstance(c, HeatFlux):
                 out[g.name] = float(g.weights.sum() * c.flux(t))
+            elif isinstance(c, Contact):
+                q, _ = contact_flux(temperature[g.nodes], c.temperature(t), c.conductance)
+                out[g.name] = float(g.weights @ q)
             elif isinstance(c, Insulated):
                 out[g.name] = 0.0
         if fixed:

@@ -7,16 +7,25 @@ live here and raise `CaseError` naming the place in the case file.
 from __future__ import annotations
 
 import logging
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .errors import CaseError
-from .furnace import Exposure, FaceCondition, FixedTemperature, HeatFlux, Insulated, Schedule
-from .geometry import get_shape
+from .furnace import (
+    Contact,
+    Exposure,
+    FaceCondition,
+    FixedTemperature,
+    HeatFlux,
+    Insulated,
+    Schedule,
+)
+from .geometry import get_shape, resolve_paths
 from .materials import Material, Table
 from .mesh import PartMesh, mesh_part
 from .model import Model, build_model
+from .program import ScheduleReader, to_schedule
 from .stepping import StepSettings
 
 __all__ = ["Target", "Problem", "build_problem", "material_from_case", "schedule_from_case"]
@@ -56,12 +65,12 @@ class Problem:
 
 
 def schedule_from_case(value) -> Schedule:
-    """A number or [[time_s, value], ...] from the case -> Schedule."""
-    if value is None:
-        return None
-    if isinstance(value, int | float):
-        return Schedule.constant(float(value))
-    return Schedule.from_rows(value)
+    """A number, [[time_s, value], ...] or a furnace program from the case -> Schedule.
+
+    A program with a rate limit that takes the part thickness needs `build_problem`
+    (which knows the part); this function raises CaseError for it.
+    """
+    return to_schedule(value)
 
 
 def table_from_case(value) -> Table:
@@ -70,19 +79,67 @@ def table_from_case(value) -> Table:
     return Table.from_rows(value)
 
 
-def material_from_case(spec) -> Material:
+def material_from_case(spec, base_dir=None) -> Material:
+    """The `[material]` table as a Material: a library entry, a CSV file and the keys given,
+    each key overriding the file and the file overriding the entry.
+
+    Args:
+        spec: `case.Material`.
+        base_dir: folder that a relative ``table_file`` is taken from (default: cwd).
+    """
+    from pathlib import Path
+
+    entry = getattr(spec, "library_entry", None)
+    columns: dict = {}
+    if getattr(spec, "table_file", None):
+        from .property_csv import read_property_csv
+
+        path = Path(spec.table_file).expanduser()
+        if not path.is_absolute():
+            path = Path(base_dir or Path.cwd()) / path
+        columns = read_property_csv(path)
+    values = {}
+    from_entry = False
+    for key in ("density", "conductivity", "specific_heat"):
+        given = getattr(spec, key, None)
+        if given is not None:
+            values[key] = float(given) if key == "density" else table_from_case(given)
+        elif key in columns:
+            values[key] = columns[key]
+        elif entry is not None:
+            values[key] = getattr(entry, key)
+            from_entry = from_entry or key != "density"
+        else:
+            raise CaseError(
+                f"material.{key}",
+                f"missing (not in {Path(spec.table_file).name} either)",
+                f"add {key} to [material] or a '{key}' column to the file",
+            )
+    name = getattr(spec, "name", "") or ""
+    if entry is not None:
+        name = f"{entry.key}: {entry.name}"
     return Material(
-        float(spec.density),
-        table_from_case(spec.conductivity),
-        table_from_case(spec.specific_heat),
-        getattr(spec, "name", "") or "",
+        values["density"],
+        values["conductivity"],
+        values["specific_heat"],
+        name,
+        entry.valid_range if from_entry else None,
+        entry.source if entry is not None else "",
     )
 
 
-def _conditions(case, names: tuple[str, ...], axis: tuple[str, ...]) -> dict[str, FaceCondition]:
+def _conditions(
+    case, names: tuple[str, ...], axis: tuple[str, ...], read=None
+) -> dict[str, FaceCondition]:
+    """Face conditions by name; `read(value, where)` turns case schedules into Schedules."""
+    if read is None:
+
+        def read(value, where):
+            return schedule_from_case(value)
+
     furnace = case.furnace
-    gas = schedule_from_case(furnace.temperature)
-    wall = schedule_from_case(furnace.wall_temperature) or gas
+    gas = read(furnace.temperature, "furnace.temperature")
+    wall = read(furnace.wall_temperature, "furnace.wall_temperature") or gas
     default = Exposure(float(furnace.htc), gas, float(furnace.emissivity), wall)
     conds: dict[str, FaceCondition] = {name: default for name in names}
     for name, face in case.faces.items():
@@ -100,22 +157,35 @@ def _conditions(case, names: tuple[str, ...], axis: tuple[str, ...]) -> dict[str
                 f"(got {kind!r})",
                 f"remove [faces.{name}] or set it insulated",
             )
+        at = f"faces.{name}"
+        shade = 1.0 if face.radiation_factor is None else float(face.radiation_factor)
         if kind == "furnace":
-            conds[name] = default
+            conds[name] = replace(default, emissivity=default.emissivity * shade)
         elif kind in ("insulated", "symmetry"):
             conds[name] = Insulated()
         elif kind == "convection":
-            amb = schedule_from_case(face.ambient)
+            amb = read(face.ambient, f"{at}.ambient")
             conds[name] = Exposure(
                 float(face.htc),
                 amb,
-                float(face.emissivity or 0.0),
-                schedule_from_case(face.wall) or amb,
+                float(face.emissivity or 0.0) * shade,
+                read(face.wall, f"{at}.wall") or amb,
             )
+        elif kind == "zone":
+            amb = read(face.ambient, f"{at}.ambient")
+            conds[name] = Exposure(
+                float(furnace.htc if face.htc is None else face.htc),
+                amb,
+                float(furnace.emissivity if face.emissivity is None else face.emissivity) * shade,
+                read(face.wall, f"{at}.wall") or amb,
+            )
+        elif kind == "hearth":
+            hearth = read(face.hearth_temperature, f"{at}.hearth_temperature") or gas
+            conds[name] = Contact(float(face.conductance), hearth)
         elif kind == "fixed":
-            conds[name] = FixedTemperature(schedule_from_case(face.temperature))
+            conds[name] = FixedTemperature(read(face.temperature, f"{at}.temperature"))
         elif kind == "flux":
-            conds[name] = HeatFlux(schedule_from_case(face.flux))
+            conds[name] = HeatFlux(read(face.flux, f"{at}.flux"))
     for name in axis:
         conds[name] = Insulated()
     return conds
@@ -132,6 +202,9 @@ def _bounds(conds: dict[str, FaceCondition], initial: float) -> tuple[float, flo
                 lo, hi = min(lo, c.wall.low), max(hi, c.wall.peak)
         elif isinstance(c, FixedTemperature):
             lo, hi = min(lo, c.temperature.low), max(hi, c.temperature.peak)
+        elif isinstance(c, Contact):
+            if c.conductance > 0:
+                lo, hi = min(lo, c.temperature.low), max(hi, c.temperature.peak)
         elif isinstance(c, HeatFlux):
             if c.flux.peak > 0:
                 hi = np.inf
@@ -158,12 +231,28 @@ def _check_target(target: Target, lo: float, hi: float) -> None:
         )
 
 
+def _target(case, conds, low_c: float, high_c: float, mean_c: float):
+    """(Target or None, lo, hi) for a start between `low_c` and `high_c` with mean `mean_c`.
+
+    The part heats when the target lies above the (volume-mean) starting temperature.
+    """
+    lo, hi = _bounds(conds, low_c)
+    lo2, hi2 = _bounds(conds, high_c)
+    lo, hi = min(lo, lo2), max(hi, hi2)
+    if case.target is None:
+        return None, lo, hi
+    tc = float(case.target.temperature)
+    target = Target(tc, tc > mean_c, float(case.target.hold))
+    _check_target(target, lo, hi)
+    return target, lo, hi
+
+
 def _breakpoints(conds, furnace_gas, furnace_wall) -> tuple[float, ...]:
     times = set(furnace_gas.breakpoints) | set(furnace_wall.breakpoints)
     for c in conds.values():
         if isinstance(c, Exposure):
             times |= set(c.gas.breakpoints) | set(c.wall.breakpoints)
-        elif isinstance(c, FixedTemperature):
+        elif isinstance(c, FixedTemperature | Contact):
             times |= set(c.temperature.breakpoints)
         elif isinstance(c, HeatFlux):
             times |= set(c.flux.breakpoints)
@@ -206,7 +295,8 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         mesh: an already built mesh to use instead of meshing the part.
     """
     part = case.part
-    params = part.params
+    # file paths (an outline, a CAD file) are taken from the case file's folder
+    params = resolve_paths(part.shape, part.params, case.base_dir)
     shape = get_shape(part.shape)
     axisym = part.model == "axisymmetric"
     names = shape.names_of_faces(params)
@@ -226,26 +316,48 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
             f"{size:g} m is larger than the thinnest section of the part, {thickness:g} m",
             f"use a size below {thickness / 4:g} m (or leave it out for the default)",
         )
-    conds = _conditions(case, names, shape.axis_faces if axisym else ())
-    initial_c = float(case.initial.temperature)
-    lo, hi = _bounds(conds, initial_c)
-    target = None
-    if case.target is not None:
-        tc = float(case.target.temperature)
-        target = Target(tc, tc > initial_c, float(case.target.hold))
-        _check_target(target, lo, hi)
+    if not names:  # faces known only once built: CAD and mesh files, face selections
+        if mesh is None:
+            mesh = mesh_part(part.shape, params, part.model, size, case.base_dir)
+        names = mesh.face_names
+    note = ""
+    if thickness is not None:
+        note = (
+            f"rate limit uses the part's thinnest modelled section, {1000 * thickness:.4g} mm "
+            "(a half-model across a symmetry plane shows half the real thickness); give "
+            "limit.thickness for the governing thickness"
+        )
+    read = ScheduleReader(thickness, note)
+    conds = _conditions(case, names, shape.axis_faces if axisym else (), read)
+    uniform = case.initial.temperature is not None
+    if uniform:
+        initial_c = float(case.initial.temperature)
+        target, lo, hi = _target(case, conds, initial_c, initial_c, initial_c)
 
-    material = material_from_case(case.material)
+    material = material_from_case(case.material, case.base_dir)
     if mesh is None:
         mesh = mesh_part(part.shape, params, part.model, size, case.base_dir)
     model = build_model(mesh, material, conds)
+    if uniform:
+        initial = np.full(mesh.nodes, initial_c)
+    else:
+        from .initial_field import initial_from_case
+
+        initial, found = initial_from_case(case.initial, case.base_dir, mesh)
+        warnings.extend(found)
+        initial_c = model.mean_temperature(initial)
+        low, high = float(initial.min()), float(initial.max())
+        target, lo, hi = _target(case, conds, low, high, initial_c)
+        lo, hi = min(lo, low), max(hi, high)
 
     probe_points = np.array([p.point for p in case.probes], dtype=float).reshape(-1, mesh.dim)
     probe_matrix(mesh, probe_points)  # validates positions early
 
-    furnace_gas = schedule_from_case(case.furnace.temperature)
-    furnace_wall = schedule_from_case(case.furnace.wall_temperature) or furnace_gas
+    furnace_gas = read(case.furnace.temperature, "furnace.temperature")
+    furnace_wall = read(case.furnace.wall_temperature, "furnace.wall_temperature") or furnace_gas
+    warnings.extend(read.notes)
     temps = [initial_c, lo if np.isfinite(lo) else initial_c, hi if np.isfinite(hi) else initial_c]
+    temps += [float(initial.min()), float(initial.max())]
     if target is not None:
         temps.append(target.temperature)
     span = max(max(temps) - min(temps), 1.0)
@@ -265,7 +377,6 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     )
     if target is None and settings.end_time is None:
         log.info("no target and no end time: the run goes on until the field settles")
-    initial = np.full(mesh.nodes, initial_c)
     return Problem(
         title=case.title,
         part_model=part.model,

@@ -42,7 +42,18 @@ class RunResult:
 
 def _range_warnings(problem: Problem, lo: float, hi: float) -> list[str]:
     out = []
-    for prop, (a, b) in problem.model.material.ranges().items():
+    material = problem.model.material
+    ranges = material.ranges()
+    if "data" in ranges:  # a published set: its stated range (tables end there too)
+        a, b = ranges.pop("data")
+        if lo < a - 0.01 or hi > b + 0.01:
+            out.append(
+                f"material data are stated for {a:g}..{b:g} C ({material.source}) but the "
+                f"part went {lo:.4g}..{hi:.4g} C; outside that range the properties are "
+                "extrapolated or held at the table ends"
+            )
+        ranges = {p: r for p, r in ranges.items() if not (r[0] >= a - 0.01 and r[1] <= b + 0.01)}
+    for prop, (a, b) in ranges.items():
         if lo < a - 0.01 or hi > b + 0.01:
             out.append(
                 f"material {prop} table covers {a:g}..{b:g} C but the part went "

@@ -4,7 +4,9 @@ Importing this package registers every built-in shape. gmsh is imported only whe
 built.
 """
 
-from . import basic  # noqa: F401  (registers rectangle and box)
+# importing registers: rectangle and box (basic); 2D sections, profiles, outlines; solids,
+# CAD files, mesh files
+from . import basic, cad, meshfile, outline, profiles, sections, solids  # noqa: F401
 from .base import (
     REQUIRED,
     SHAPES,

@@ -187,7 +187,11 @@ def _convert(p: Param, v):
 
 
 def resolve_paths(shape_name: str, params: dict, base_dir) -> dict:
-    """Parameters with every "path" parameter made absolute against `base_dir`."""
+    """Parameters with every "path" parameter made absolute against `base_dir`.
+
+    A sub-table parameter (kind "any") holding a ``shape`` key, such as the section of an
+    extrusion, has its own path parameters resolved the same way.
+    """
     from pathlib import Path
 
     shape = get_shape(shape_name)
@@ -196,6 +200,13 @@ def resolve_paths(shape_name: str, params: dict, base_dir) -> dict:
         if p.kind == "path" and isinstance(out.get(p.name), str):
             path = Path(out[p.name]).expanduser()
             out[p.name] = str(path if path.is_absolute() else Path(base_dir) / path)
+        sub = out.get(p.name)
+        if p.kind == "any" and isinstance(sub, dict) and isinstance(sub.get("shape"), str):
+            if sub["shape"] in SHAPES:
+                inner = resolve_paths(
+                    sub["shape"], {k: v for k, v in sub.items() if k != "shape"}, base_dir
+                )
+                out[p.name] = {"shape": sub["shape"], **inner}
     return out
 
 

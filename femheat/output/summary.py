@@ -10,6 +10,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from ..estimates import summary_section as estimates_section
 from ..run import RunResult
 from .files import atomic_write_text
 
@@ -119,6 +120,7 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
             "by_face": dict(e.heat_in),
         },
         "probes": probes,
+        "estimates": estimates_section(result),
         "warnings": list(result.warnings),
         "caution": CAUTION,
     }
