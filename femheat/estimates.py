@@ -422,8 +422,8 @@ def series_estimates(
         key: prefix of the estimates' keys. label: what the body is.
 
     The series is flagged valid only for a linear problem: no radiation and nothing in
-    ``cond.simplified``; the one-term form is flagged valid when ``Fo > 0.2`` in every
-    direction (its error against the series, not against the real part).
+    ``cond.simplified``; the one-term form is flagged valid when, in addition, ``Fo > 0.2``
+    in every direction (its error against the series).
 
     Returns:
         (one-term, series) estimates.
@@ -458,11 +458,21 @@ def series_estimates(
     t1 = math.log(amp / eff.theta) / rate
     if t1 > 0.0:
         fo1 = tuple(a * t1 for a in rates)
-        ok = min(fo1) > ONE_TERM_LIMIT
+        fo_ok = min(fo1) > ONE_TERM_LIMIT
         fo_text = ", ".join(f"{f:.3g}" for f in fo1)
-        cond1 = f"Fo = {fo_text} {'>' if ok else '<='} {ONE_TERM_LIMIT:g}"
+        cond1 = f"Fo = {fo_text} {'>' if fo_ok else '<='} {ONE_TERM_LIMIT:g}"
+        if not linear:
+            cond1 += "; " + linear_text
         one = Estimate(
-            f"{key}_one_term", f"{label} one-term", "one-term", t1, ok, cond1, lengths, bis, fo1
+            f"{key}_one_term",
+            f"{label} one-term",
+            "one-term",
+            t1,
+            fo_ok and linear,
+            cond1,
+            lengths,
+            bis,
+            fo1,
         )
     else:
         one = Estimate(

@@ -369,9 +369,6 @@ def check_loops(loops: list[list[Segment]], names: list[str] | None = None) -> N
         pieces_p.append(pts)
         pieces_q.append(np.roll(pts, -1, axis=0))
         who.extend((li, int(e), k, len(pts)) for k, e in enumerate(owner))
-    for li, segs in enumerate(loops):
-        if abs(loop_area(segs)) <= 1e-12 * span * span:
-            raise LoopError(segs[0].label, f"the {names[li]} encloses no area", "check its points")
     p = np.concatenate(pieces_p)
     q = np.concatenate(pieces_q)
     loop_of = np.array([w[0] for w in who])
@@ -406,6 +403,9 @@ def check_loops(loops: list[list[Segment]], names: list[str] | None = None) -> N
                 problem = f"the {where_a} meets the {where_b}"
                 fix = "holes must lie inside the outline without touching it or each other"
             raise LoopError(ea.label or eb.label, problem, fix)
+    for li, segs in enumerate(loops):
+        if abs(loop_area(segs)) <= 1e-12 * span * span:
+            raise LoopError(segs[0].label, f"the {names[li]} encloses no area", "check its points")
     for li in range(1, len(loops)):
         if not _inside(polys[li][0], polys[0]):
             raise LoopError(
@@ -437,6 +437,10 @@ def build_surface(gmsh, loops: list[list[Segment]]) -> Built:
     name_of: dict[int, str] = {}
     wires = []
     for segs in loops:
+        # every loop counter-clockwise: gmsh turns the holes round itself, and a hole drawn
+        # clockwise would be added to the area OpenCASCADE reports instead of taken from it
+        if loop_area(segs) < 0:
+            segs = [Segment(s.end, s.start, s.name, s.mid, s.label) for s in reversed(segs)]
         pts = [occ.addPoint(s.start[0], s.start[1], 0.0) for s in segs]
         curves = []
         for i, s in enumerate(segs):

@@ -232,8 +232,7 @@ def _check_i(p: dict, model: str) -> None:
         "root_radius",
         r,
         room,
-        "the flange outstand (width - web_thickness)/2 and half the web height between the "
-        "flanges",
+        "the flange outstand (width - web_thickness)/2 and half the web height between the flanges",
         "use a smaller root_radius",
     )
 
