@@ -138,12 +138,14 @@ class Marcher:
     """Iterate to march `model` from `initial` (C per node) under `settings`.
 
     The consumer may change `end_time` while iterating (e.g. to add a hold after the target).
+    `snapshot()` after any step gives a state that `resume=` continues from exactly.
     """
 
     model: Model
     initial: np.ndarray
     settings: StepSettings
     stats: SolverStats = field(default_factory=SolverStats)
+    resume: dict | None = None
 
     def __post_init__(self):
         self.end_time = self.settings.end_time
@@ -156,6 +158,9 @@ class Marcher:
         self._atol = self.settings.tolerance * self.settings.span
         self._newton_tol = 1e-2 * self._atol
         self._diag = None
+        self._state: dict | None = None
+        if self.resume is not None:
+            self._restore(self.resume)
 
     def _solve(self, diag: np.ndarray, rhs: np.ndarray) -> np.ndarray:
         x = self._linear.solve(diag, rhs)
@@ -226,15 +231,48 @@ class Marcher:
             return 0.5 * gap
         return h
 
-    def __iter__(self):
-        m, mat = self.model, self.model.material
-        s = self.settings
+    def snapshot(self) -> dict:
+        """The march's state after the last accepted step, for a checkpoint.
+
+        Arrays are copies; with `Marcher(..., resume=snapshot)` the march continues exactly
+        as it would have (same steps, same results).
+        """
+        if self._state is None:
+            raise SolverError("nothing to snapshot: the march has not started")
+        st = self._state
+        return {
+            "t": st["t"],
+            "h": st["h"],
+            "temperature": st["temp"].copy(),
+            "enthalpy": st["h_enth"].copy(),
+            "enthalpy_rate": st["hdot"].copy(),
+            "rate": st["rate"].copy(),
+            "flows": dict(st["flows"]),
+            "end_time": self.end_time,
+            "stats": dict(vars(self.stats)),
+        }
+
+    def _restore(self, snap: dict) -> None:
+        self._state = {
+            "t": float(snap["t"]),
+            "h": float(snap["h"]),
+            "temp": np.asarray(snap["temperature"], dtype=float).copy(),
+            "h_enth": np.asarray(snap["enthalpy"], dtype=float).copy(),
+            "hdot": np.asarray(snap["enthalpy_rate"], dtype=float).copy(),
+            "rate": np.asarray(snap["rate"], dtype=float).copy(),
+            "flows": {k: float(v) for k, v in snap["flows"].items()},
+        }
+        self.end_time = snap.get("end_time", self.end_time)
+        for key, value in snap.get("stats", {}).items():
+            setattr(self.stats, key, value)
+
+    def _first_step(self):
+        """Backward Euler from the initial field, retried with a smaller step if Newton fails."""
+        m, mat, s = self.model, self.model.material, self.settings
         t = 0.0
         temp = np.asarray(self.initial, dtype=float).copy()
         h_enth = mat.enthalpy(temp)
         h = s.fixed_step or s.first_step
-
-        # first step: backward Euler, repeated with a smaller step if Newton fails
         while True:
             hh = self._clip(t, h)
             try:
@@ -250,11 +288,28 @@ class Marcher:
         flows = m.face_flows(new, t + hh, hdot)
         rate = hdot / mat.capacity(new)
         self.stats.steps += 1
-        yield Step(
+        step = Step(
             0, (t, t + hh), (temp, new), rate, {k: v * hh for k, v in flows.items()}, "euler"
         )
-        t, temp, h_enth = t + hh, new, h_new
-        h = s.fixed_step or 4.0 * hh
+        self._state = {
+            "t": t + hh,
+            "h": s.fixed_step or 4.0 * hh,
+            "temp": new,
+            "h_enth": h_new,
+            "hdot": hdot,
+            "rate": rate,
+            "flows": flows,
+        }
+        return step
+
+    def __iter__(self):
+        m, mat = self.model, self.model.material
+        s = self.settings
+        if self._state is None:
+            yield self._first_step()
+        st = self._state
+        t, temp, h_enth, hdot = st["t"], st["temp"], st["h_enth"], st["hdot"]
+        rate, flows, h = st["rate"], st["flows"], st["h"]
 
         while self.stats.steps < s.max_steps:
             if self.end_time is not None and t >= self.end_time * (1 - 1e-12):
@@ -283,7 +338,7 @@ class Marcher:
             free = self._free
             k = mat.conductivity(new[free])
             err_t = self._solve(self._diag, m.volumes[free] * a * est[free]) / k
-            err = float(np.max(np.abs(err_t))) / self._atol if err_t.size else 0.0
+            err = self._error_norm(err_t)
             factor = 0.9 * err ** (-1.0 / 3.0) if err > 0 else 3.0
             if s.fixed_step:
                 factor = 1.0
@@ -296,7 +351,12 @@ class Marcher:
             heat = {k_: hh * (_W0 * (flows[k_] + flows_g[k_]) + _W1 * flows_1[k_]) for k_ in flows}
             rate = hdot_new / mat.capacity(new)
             self.stats.steps += 1
-            yield Step(
+            proposal = hh * min(3.0, max(0.2, factor))
+            if s.fixed_step:
+                h_next = s.fixed_step
+            else:
+                h_next = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
+            step = Step(
                 self.stats.steps - 1,
                 (t, t + GAMMA * hh, t + hh),
                 (temp, tg_temp, new),
@@ -304,10 +364,19 @@ class Marcher:
                 heat,
                 "trbdf2",
             )
-            t, temp, h_enth, hdot, flows = t + hh, new, h_new, hdot_new, flows_1
-            proposal = hh * min(3.0, max(0.2, factor))
-            if s.fixed_step:
-                h = s.fixed_step
-            else:
-                h = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
+            t, temp, h_enth, hdot, flows, h = t + hh, new, h_new, hdot_new, flows_1, h_next
+            self._state = {
+                "t": t,
+                "h": h,
+                "temp": temp,
+                "h_enth": h_enth,
+                "hdot": hdot,
+                "rate": rate,
+                "flows": flows,
+            }
+            yield step
         raise SolverError(f"step limit of {s.max_steps} reached at t = {t:.6g} s")
+
+    def _error_norm(self, err_t: np.ndarray) -> float:
+        """Size of the estimated local error relative to the allowed one (max norm, K)."""
+        return float(np.max(np.abs(err_t))) / self._atol if err_t.size else 0.0
