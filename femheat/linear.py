@@ -9,6 +9,7 @@ shows it has drifted, so most time steps cost a few triangular-solve pairs.
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -46,9 +47,12 @@ class SpdSolver:
         self.rtol = rtol
         self.stats = LinearStats()
         self._apply = None
-        self._limit = 6 if method == "direct" else 30
+        self._build_s = 0.0  # wall time of the last preconditioner build
+        self._iter_s = 0.0  # wall time of one PCG iteration, measured
+        self._excess_s = 0.0  # time spent on iterations beyond the first since the build
 
     def _build(self, d: np.ndarray) -> None:
+        start = time.perf_counter()
         a = (self.k + sp.diags(d)).tocsc()
         if self.method == "direct":
             from scipy.sparse.linalg import splu
@@ -69,6 +73,8 @@ class SpdSolver:
             prec = ml.aspreconditioner(cycle="V")
             self._apply = prec.matvec
         self.stats.builds += 1
+        self._build_s = time.perf_counter() - start
+        self._excess_s = 0.0
 
     def invalidate(self) -> None:
         """Force a rebuild of the preconditioner at the next solve."""
@@ -98,12 +104,17 @@ class SpdSolver:
         return x, maxiter, float(np.linalg.norm(r)) <= tol
 
     def solve(self, d: np.ndarray, b: np.ndarray) -> np.ndarray:
-        """x with (K + diag(d)) x = b."""
+        """x with (K + diag(d)) x = b.
+
+        The preconditioner is rebuilt when the iterations spent beyond the first since the
+        last build have cost as much as a build: a kept factorisation pays while it is close.
+        """
         self.stats.solves += 1
         if b.size == 0:
             return b.copy()
         if self._apply is None:
             self._build(d)
+        start = time.perf_counter()
         x, its, ok = self._pcg(d, b, 200)
         self.stats.iterations += its
         if not ok:
@@ -112,6 +123,9 @@ class SpdSolver:
             self.stats.iterations += its
             if not ok:
                 raise np.linalg.LinAlgError("conjugate gradients did not converge")
-        elif its > self._limit:
+            return x
+        self._iter_s = (time.perf_counter() - start) / max(its, 1)
+        self._excess_s += (its - 1) * self._iter_s
+        if self._excess_s > self._build_s:
             self._apply = None  # drifted: rebuild at the next solve
         return x

@@ -121,11 +121,11 @@ def gmsh_session():
 
 DEFAULT_NODES_LIMIT = 200_000
 MAX_NODES = 3_000_000
-ELEMENTS_ACROSS = {2: 20, 3: 8}  # default elements across the thinnest section
+ELEMENTS_ACROSS = {2: 20, 3: 12}  # default elements across the thinnest section
 
 
 def default_size(thickness: float, dim: int) -> float:
-    """Default element size (m): the thinnest section over 20 elements (2D) or 8 (3D)."""
+    """Default element size (m): the thinnest section over 20 elements (2D) or 12 (3D)."""
     return float(thickness) / ELEMENTS_ACROSS[dim]
 
 

@@ -8,15 +8,17 @@ from __future__ import annotations
 
 import logging
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
 
+from .checks import Check, self_checks
 from .problem import Problem, probe_matrix
-from .stepping import Marcher, SolverStats, Step
+from .stepping import Marcher, SolverStats
 from .watch import EnergyWatch, HistoryWatch, ProbeWatch, SettleWatch, TargetWatch
 
-__all__ = ["RunResult", "run_problem"]
+__all__ = ["RunResult", "RunState", "run_problem"]
 
 log = logging.getLogger(__name__)
 
@@ -38,6 +40,32 @@ class RunResult:
     wall_s: float
     settled: bool
     warnings: tuple[str, ...]
+    checks: tuple[Check, ...] = ()
+
+
+@dataclass
+class RunState:
+    """The live state of a run, for observers that keep it (checkpoints, history flushes).
+
+    An observer with an ``attach(state)`` method is handed this before the first step; it may
+    read it at any step, never change it.
+
+    Attributes:
+        watchers: "target" (when there is one), "probes", "history", "energy", "settle".
+        wall_before: s of wall time spent in earlier legs of a resumed run.
+        started: `time.perf_counter()` at the start of this leg.
+    """
+
+    problem: Problem
+    marcher: Marcher
+    watchers: dict
+    wall_before: float = 0.0
+    started: float = 0.0
+
+    @property
+    def wall_s(self) -> float:
+        """Wall time of the run so far, s (all legs)."""
+        return self.wall_before + time.perf_counter() - self.started
 
 
 def _range_warnings(problem: Problem, lo: float, hi: float) -> list[str]:

@@ -303,6 +303,17 @@ class Marcher:
         return step
 
     def __iter__(self):
+        # one BLAS thread: the vectors here are short and threads of several BLAS libraries
+        # in one process fight each other (measured 5x slower solves)
+        from threadpoolctl import threadpool_limits
+
+        limits = threadpool_limits(limits=1, user_api="blas")
+        try:
+            yield from self._march()
+        finally:
+            limits.restore_original_limits()
+
+    def _march(self):
         m, mat = self.model, self.model.material
         s = self.settings
         if self._state is None:
@@ -354,8 +365,12 @@ class Marcher:
             proposal = hh * min(3.0, max(0.2, factor))
             if s.fixed_step:
                 h_next = s.fixed_step
+            elif hh < h and factor >= 1.0:
+                h_next = max(proposal, h)  # the step was cut short by a breakpoint
+            elif hh <= proposal < 1.5 * hh:
+                h_next = hh  # keep the step (and the kept preconditioner) unless it pays
             else:
-                h_next = max(proposal, h) if (hh < h and factor >= 1.0) else proposal
+                h_next = proposal
             step = Step(
                 self.stats.steps - 1,
                 (t, t + GAMMA * hh, t + hh),

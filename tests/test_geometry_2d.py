@@ -377,7 +377,14 @@ def test_profile_volume_matches_closed_form(shape, params, volume, formula):
 def test_stepped_shaft_faces():
     p = check_params("stepped_shaft", "axisymmetric", {"steps": [[0.06, 0.1], [0.1, 0.05]]})
     names = get_shape("stepped_shaft").names_of_faces(p)
-    assert names == ("end_1", "step_1", "shoulder_1_2", "step_2", "end_2", "axis")
+    assert names == ("first_end", "step_1", "shoulder_1_2", "step_2", "last_end", "axis")
+    one = check_params("stepped_shaft", "axisymmetric", {"steps": [[0.06, 0.1]]})
+    assert get_shape("stepped_shaft").names_of_faces(one) == (
+        "first_end",
+        "step_1",
+        "last_end",
+        "axis",
+    )
     mesh = mesh_part("stepped_shaft", p, "axisymmetric", 0.004)
     shoulder = mesh.points[mesh.faces["shoulder_1_2"]]
     assert np.allclose(shoulder[..., 1], 0.1) and shoulder[..., 0].min() == pytest.approx(0.03)

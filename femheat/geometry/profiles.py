@@ -51,7 +51,7 @@ def _sphere(p: dict) -> list[list[Vertex]]:
 def _shaft(p: dict) -> list[list[Vertex]]:
     steps = p["steps"]
     n = len(steps)
-    verts = [_V(0, 0, "end_1")]
+    verts = [_V(0, 0, "first_end")]
     y = 0.0
     for i, (d, length) in enumerate(steps, start=1):
         r = d / 2.0
@@ -59,7 +59,7 @@ def _shaft(p: dict) -> list[list[Vertex]]:
         y += length
         if i < n:
             verts.append(_V(r, y, f"shoulder_{i}_{i + 1}"))
-    verts.append(_V(steps[-1][0] / 2.0, y, f"end_{n}"))
+    verts.append(_V(steps[-1][0] / 2.0, y, "last_end"))
     verts.append(_V(0, y, "axis"))
     return [verts]
 
@@ -268,11 +268,11 @@ _register(
             "[[diameter, length], ...] in m, from the end at y = 0 along the axis",
         ),
     ),
-    ("axis", "end_1", "step_1", "shoulder_1_2", "step_2", "...", "step_N", "end_N"),
-    "Shaft of round steps stacked along the y axis from y = 0. Faces: end_1 (the end face of "
-    "the first step, at y = 0), step_1 ... step_N (the cylindrical surface of each step), "
-    "shoulder_1_2 ... (the ring-shaped face where step i meets step i+1), end_N (the end face "
-    "of the last step; N is the number of steps), axis.",
+    ("first_end", "step_1", "shoulder_1_2", "step_2", "...", "step_N", "last_end", "axis"),
+    "Shaft of round steps stacked along the y axis from y = 0. Faces: first_end (the end "
+    "face of the first step, at y = 0), step_1 ... step_N (the cylindrical surface of each "
+    "step, N the number of steps), shoulder_1_2 ... (the ring-shaped face where step i meets "
+    "step i+1), last_end (the end face of the last step), axis.",
     thickness=_shaft_thickness,
     check=_check_shaft,
     dynamic_faces=shaft_face_names,
