@@ -153,6 +153,8 @@ class Results:
         frames: the field frames kept in memory (empty when they were only streamed).
         estimates: hand estimates of the time to target ((label, time_s) pairs or objects with
             ``label`` and ``time_s``), shown in the plots and the report.
+        extra: more sections for summary.json (e.g. ``"accuracy"`` from
+            `femheat.accuracy`), added after the standard ones.
     """
 
     def __init__(self, result, recorder, case=None, case_text: str = "", estimates=None):
@@ -161,6 +163,7 @@ class Results:
         self.case_text = case_text
         self._recorder = recorder
         self.estimates = list(estimates) if estimates is not None else _estimates_for(result)
+        self.extra: dict[str, dict] = {}
 
     def __repr__(self) -> str:
         t = self.summary["target"]
@@ -179,7 +182,9 @@ class Results:
         """The content of summary.json."""
         from .output.summary import summary_dict
 
-        return summary_dict(self.result)
+        data = summary_dict(self.result)
+        data.update(self.extra)
+        return data
 
     @property
     def history(self) -> dict[str, np.ndarray]:
@@ -307,7 +312,7 @@ class Results:
         """Write the outputs into `folder`: summary.json, history.csv, and as the case's
         ``[output]`` says (or the arguments override): VTK frames, PNG pictures and plots,
         report.html. Frames already written during the run are not written again."""
-        from .output.summary import write_history, write_summary
+        from .output.summary import write_history, write_summary_dict
 
         out = SaveLog()
         spec = self.case.output if self.case is not None else None
@@ -320,7 +325,9 @@ class Results:
         folder = Path(folder)
         folder.mkdir(parents=True, exist_ok=True)
         t = time.perf_counter()
-        out.files += [write_summary(folder, self.result), write_history(folder, self.result)]
+        # the history first: a summary on disk vouches for the history beside it
+        history = write_history(folder, self.result)
+        out.files += [write_summary_dict(folder, self.summary), history]
         out.seconds["summary"] = time.perf_counter() - t
         if fields and self.frames and not self._streamed_to(folder):
             t = time.perf_counter()

@@ -1025,11 +1025,46 @@ class Target(_Record):
     )
 
 
+def _face_list(value: Any) -> tuple[str, ...]:
+    """A non-empty list of face names."""
+    if isinstance(value, str):
+        value = [value]
+    if not isinstance(value, list | tuple) or not value:
+        raise _Bad(f"expected a list of face names, got {_show(value)}")
+    for i, name in enumerate(value):
+        if not isinstance(name, str) or not name.strip():
+            raise _Bad(f"expected a face name, got {_show(name)}", at=(i,))
+    return tuple(value)
+
+
+class Refinement(_Record):
+    """Finer elements near some faces."""
+
+    faces: Annotated[tuple[str, ...], BeforeValidator(_face_list)] = Field(
+        description="the faces to refine near, e.g. [\"root\"]", examples=['["root"]']
+    )
+    size: _Length = Field(description="the element size at those faces in m", examples=["0.001"])
+    distance: _Length | None = Field(
+        None,
+        description="the distance in m over which the size grows back to mesh.size "
+        "(default: 5 times the fine size)",
+        examples=["0.01"],
+    )
+
+
 class MeshSpec(_Record):
     """Mesh controls."""
 
     size: _Length | None = Field(
         None, description="the element size in m, > 0", examples=["0.002"]
+    )
+    corner_size: _Length | None = Field(
+        None,
+        description="a finer element size in m at the corners of the part (where faces meet)",
+        examples=["0.001"],
+    )
+    refine: list[Refinement] = Field(
+        default_factory=list, description="finer elements near named faces: [[mesh.refine]]"
     )
     element: Annotated[ElementKind, _one_of(ElementKind)] = Field(
         "P1", description="the element: 'P1' (linear) or 'P2' (quadratic)", examples=['"P1"']

@@ -177,14 +177,69 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
     return PartMesh(coords[used].copy(), cells, faces, axisymmetric, size)
 
 
+def _refinement_fields(gmsh, built, dim: int, h: float, refine, corner_size) -> float:
+    """Set a background size field: finer near named faces and at corners. Returns the finest
+    size asked for (m)."""
+    field = gmsh.model.mesh.field
+    fields = []
+    finest = h
+    facet_list = "CurvesList" if dim == 2 else "SurfacesList"
+    for i, r in enumerate(refine):
+        tags = []
+        for name in r.faces:
+            if name not in built.faces:
+                raise CaseError(
+                    f"mesh.refine[{i}].faces",
+                    f"no face named {name!r} on this part",
+                    f"use one of: {', '.join(built.faces)}",
+                )
+            tags += built.faces[name]
+        dist = field.add("Distance")
+        field.setNumbers(dist, facet_list, tags)
+        field.setNumber(dist, "Sampling", 200)
+        thr = field.add("Threshold")
+        field.setNumber(thr, "InField", dist)
+        field.setNumber(thr, "SizeMin", r.size)
+        field.setNumber(thr, "SizeMax", h)
+        field.setNumber(thr, "DistMin", 0.0)
+        field.setNumber(thr, "DistMax", r.distance or 5.0 * r.size)
+        fields.append(thr)
+        finest = min(finest, r.size)
+    if corner_size is not None:
+        points = [t for _, t in gmsh.model.getEntities(0)]
+        dist = field.add("Distance")
+        field.setNumbers(dist, "PointsList", points)
+        thr = field.add("Threshold")
+        field.setNumber(thr, "InField", dist)
+        field.setNumber(thr, "SizeMin", corner_size)
+        field.setNumber(thr, "SizeMax", h)
+        field.setNumber(thr, "DistMin", 0.0)
+        field.setNumber(thr, "DistMax", 5.0 * corner_size)
+        fields.append(thr)
+        finest = min(finest, corner_size)
+    if fields:
+        both = field.add("Min")
+        field.setNumbers(both, "FieldsList", fields)
+        field.setAsBackgroundMesh(both)
+    return finest
+
+
 def mesh_part(
-    shape_name: str, params: dict, model: str, size: float | None, base_dir=None
+    shape_name: str,
+    params: dict,
+    model: str,
+    size: float | None,
+    base_dir=None,
+    refine=(),
+    corner_size: float | None = None,
 ) -> PartMesh:
     """Build a registered shape with gmsh and mesh it; faces become named boundary groups.
 
     Args:
         shape_name: registered shape. params: its checked parameters. model: part model.
         base_dir: folder that relative file paths in the parameters are taken from.
+        refine: `[[mesh.refine]]` records (faces, size, distance): finer near those faces.
+        corner_size: finer elements (m) at every corner of the geometry.
         size: element size in m (None: from the thinnest section, enlarged if the mesh would
             exceed `DEFAULT_NODES_LIMIT` nodes).
 
@@ -232,8 +287,9 @@ def mesh_part(
         gmsh.model.addPhysicalGroup(dim, vols, name="part")
         for name, tags in built.faces.items():
             gmsh.model.addPhysicalGroup(dim - 1, tags, name=name)
+        finest = _refinement_fields(gmsh, built, dim, h, refine, corner_size)
         gmsh.option.setNumber("Mesh.MeshSizeMax", h)
-        gmsh.option.setNumber("Mesh.MeshSizeMin", 0.2 * h)
+        gmsh.option.setNumber("Mesh.MeshSizeMin", 0.2 * finest)
         gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
         gmsh.option.setNumber("Mesh.Algorithm", 6)

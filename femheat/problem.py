@@ -287,6 +287,14 @@ def probe_matrix(mesh: PartMesh, points: np.ndarray):
     raise CaseError("probes", "a probe lies outside the part", "check the probe points")
 
 
+def _mesh(case, params: dict, size: float | None) -> PartMesh:
+    """Mesh the case's part with its mesh controls."""
+    spec = case.mesh
+    return mesh_part(
+        case.part.shape, params, case.part.model, size, case.base_dir, spec.refine, spec.corner_size
+    )
+
+
 def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     """Mesh the part, assemble the model and check everything against the geometry.
 
@@ -318,7 +326,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
         )
     if not names:  # faces known only once built: CAD and mesh files, face selections
         if mesh is None:
-            mesh = mesh_part(part.shape, params, part.model, size, case.base_dir)
+            mesh = _mesh(case, params, size)
         names = mesh.face_names
     note = ""
     if thickness is not None:
@@ -336,7 +344,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
 
     material = material_from_case(case.material, case.base_dir)
     if mesh is None:
-        mesh = mesh_part(part.shape, params, part.model, size, case.base_dir)
+        mesh = _mesh(case, params, size)
     model = build_model(mesh, material, conds)
     if uniform:
         initial = np.full(mesh.nodes, initial_c)

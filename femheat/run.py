@@ -90,11 +90,22 @@ def _range_warnings(problem: Problem, lo: float, hi: float) -> list[str]:
     return out
 
 
-def run_problem(problem: Problem, observers=()) -> RunResult:
+def run_problem(
+    problem: Problem,
+    observers=(),
+    *,
+    stop: Callable[[], str | None] | None = None,
+    resume: dict | None = None,
+) -> RunResult:
     """March `problem` to its end and return the collected results.
 
     Args:
-        observers: extra callables taking each accepted `Step` (writers, progress).
+        observers: extra callables taking each accepted `Step` (writers, progress). Those with
+            an ``attach(state)`` method get the `RunState` first.
+        stop: asked after each step (unless the run ends there anyway); a reason (text)
+            stops the run, whose status is then "interrupted".
+        resume: continue a run from its checkpoint: ``{"marcher": Marcher.snapshot(),
+            "watchers": {name: {attribute: value}}, "wall_s": s}`` (`femheat.checkpoint`).
     """
     start = time.perf_counter()
     model = problem.model
@@ -109,26 +120,38 @@ def run_problem(problem: Problem, observers=()) -> RunResult:
     energy = EnergyWatch(model, problem.initial)
     last_change = max(problem.settings.breakpoints, default=0.0)
     settle = SettleWatch(last_change, problem.settings.span)
-    watchers = [w for w in (tw, probes, history, energy, settle) if w is not None]
+    named = {"target": tw, "probes": probes, "history": history, "energy": energy}
+    named = {k: w for k, w in {**named, "settle": settle}.items() if w is not None}
+    watchers = list(named.values())
 
-    marcher = Marcher(model, problem.initial, problem.settings)
+    snapshot, wall_before = None, 0.0
+    if resume is not None:
+        snapshot, wall_before = resume["marcher"], float(resume.get("wall_s", 0.0))
+        for name, attributes in resume["watchers"].items():
+            for key, value in attributes.items():
+                setattr(named[name], key, value)
+    marcher = Marcher(model, problem.initial, problem.settings, resume=snapshot)
+    state = RunState(problem, marcher, named, wall_before, start)
+    for obs in observers:
+        if hasattr(obs, "attach"):
+            obs.attach(state)
     status, reason = "finished", "end time reached"
-    lo, hi = float(problem.initial.min()), float(problem.initial.max())
-    last: Step | None = None
+    rows = np.asarray(history.rows, dtype=float)  # the start, or every step before a resume
+    lo, hi = float(rows[:, 1].min()), float(rows[:, 2].max())
+    end_time, final = 0.0, problem.initial
+    if snapshot is not None:
+        end_time, final = float(snapshot["t"]), np.asarray(snapshot["temperature"])
     holding = False
-    for step in marcher:
-        last = step
-        for w in watchers:
-            w.observe(step)
-        for obs in observers:
-            obs(step)
-        lo, hi = min(lo, float(step.end.min())), max(hi, float(step.end.max()))
+
+    def over() -> bool:
+        """After a step: the part is through (and held), or the field has settled."""
+        nonlocal holding, reason
         if tw is not None and tw.reached and not holding:
             if target.hold <= 0:
-                break
+                return True
             holding = True
-            stop = tw.time + target.hold
-            marcher.end_time = stop if marcher.end_time is None else min(marcher.end_time, stop)
+            until = tw.time + target.hold
+            marcher.end_time = until if marcher.end_time is None else min(marcher.end_time, until)
         if settle.settled or (
             tw is not None
             and not tw.reached
@@ -140,8 +163,26 @@ def run_problem(problem: Problem, observers=()) -> RunResult:
                     f"the part settles with its lagging point near {tw.closest_c:.1f} C, "
                     f"short of the {tw.target:g} C target"
                 )
+            return True
+        return False
+
+    # a resumed run first takes the decisions of the step its checkpoint was written at
+    done = snapshot is not None and over()
+    for step in () if done else marcher:
+        end_time, final = step.t1, step.end
+        for w in watchers:
+            w.observe(step)
+        for obs in observers:
+            obs(step)
+        lo, hi = min(lo, float(step.end.min())), max(hi, float(step.end.max()))
+        if over():
             break
-    if tw is not None:
+        at_end = marcher.end_time is not None and step.t1 >= marcher.end_time * (1 - 1e-12)
+        why = stop() if stop is not None and not at_end else None
+        if why:
+            status, reason = "interrupted", f"{why} at t = {step.t1:.6g} s, before the end"
+            break
+    if tw is not None and status != "interrupted":
         if tw.reached:
             status, reason = "reached", "every point reached the target"
         else:
@@ -151,26 +192,24 @@ def run_problem(problem: Problem, observers=()) -> RunResult:
                     f"end time reached with the lagging point at {tw.closest_c:.1f} C, "
                     f"short of the {tw.target:g} C target"
                 )
-    final = last.end if last is not None else problem.initial
+    checks = self_checks(problem, energy, marcher.stats)
     warnings = list(problem.warnings) + _range_warnings(problem, lo, hi)
-    if abs(energy.relative_error) > 1e-3:
-        warnings.append(
-            f"energy balance off by {100 * energy.relative_error:.3f} %; tighten solver.tolerance"
-        )
+    warnings += [c.warning for c in checks if not c.ok]
     for w in warnings:
         log.warning(w)
     return RunResult(
         problem=problem,
         status=status,
         reason=reason,
-        end_time=last.t1 if last is not None else 0.0,
+        end_time=end_time,
         final=final,
         target=tw,
         probes=probes,
         history=history,
         energy=energy,
         stats=marcher.stats,
-        wall_s=time.perf_counter() - start,
+        wall_s=state.wall_s,
         settled=settle.settled,
         warnings=tuple(warnings),
+        checks=checks,
     )

@@ -138,7 +138,29 @@ def _is_num(v) -> bool:
     return isinstance(v, int | float) and not isinstance(v, bool)
 
 
+def _length(p: Param, v, index: int | None = None):
+    """A length given as text with a unit ("25 mm", "1.5 in") in m; numbers pass through."""
+    if not isinstance(v, str):
+        return v
+    from ..units import UnitError, to_si
+
+    try:
+        return to_si(v, "length")
+    except UnitError as exc:
+        raise ShapeParamError(p.name, exc.problem, exc.fix, index) from None
+
+
 def _convert(p: Param, v):
+    if p.kind in ("length", "length0"):
+        v = _length(p, v)
+    elif p.kind in ("lengths", "pairs") and isinstance(v, list | tuple):
+        if p.kind == "lengths":
+            v = [_length(p, x, i) for i, x in enumerate(v)]
+        else:
+            v = [
+                [_length(p, x, i) for x in row] if isinstance(row, list | tuple) else row
+                for i, row in enumerate(v)
+            ]
     if p.kind in ("length", "length0", "angle"):
         if not _is_num(v):
             raise _bad(p, f"expected a number, got {v!r}", f"give {p.name} ({p.doc})")

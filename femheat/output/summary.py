@@ -10,11 +10,19 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
+from ..checks import checks_section
 from ..estimates import summary_section as estimates_section
 from ..run import RunResult
 from .files import atomic_write_text
 
-__all__ = ["summary_dict", "write_summary", "write_history", "hours_minutes"]
+__all__ = [
+    "summary_dict",
+    "write_summary",
+    "write_summary_dict",
+    "write_history",
+    "write_history_rows",
+    "hours_minutes",
+]
 
 CAUTION = (
     "Estimates only. Confirm with thermocouples on the part; the applicable code, qualified "
@@ -38,7 +46,11 @@ def _num(x):
 
 
 def summary_dict(result: RunResult, complete: bool = True) -> dict:
-    """The machine-readable summary of a run (SI units, temperatures in C)."""
+    """The machine-readable summary of a run (SI units, temperatures in C).
+
+    ``complete`` is false for an interrupted run (status "interrupted") whatever is passed.
+    """
+    complete = complete and result.status != "interrupted"
     p = result.problem
     tw = result.target
     mesh = p.mesh
@@ -120,6 +132,7 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
             "by_face": dict(e.heat_in),
         },
         "probes": probes,
+        "checks": checks_section(result.checks),
         "estimates": estimates_section(result),
         "warnings": list(result.warnings),
         "caution": CAUTION,
@@ -136,16 +149,24 @@ def _plain(obj):
 
 
 def write_summary(folder: str | Path, result: RunResult, complete: bool = True) -> Path:
-    data = summary_dict(result, complete)
+    return write_summary_dict(folder, summary_dict(result, complete))
+
+
+def write_summary_dict(folder: str | Path, data: dict) -> Path:
+    """Write a summary dict (from `summary_dict`, perhaps with more sections) atomically."""
     text = json.dumps(data, indent=2, default=_plain, allow_nan=False)
     return atomic_write_text(Path(folder) / "summary.json", text + "\n")
 
 
 def write_history(folder: str | Path, result: RunResult) -> Path:
     h = result.history
+    return write_history_rows(folder, h.columns, h.rows)
+
+
+def write_history_rows(folder: str | Path, columns, rows) -> Path:
+    """Write history.csv atomically from its column names and rows (also during a run)."""
     buf = io.StringIO()
-    buf.write(",".join(h.columns) + "\n")
-    rows = np.asarray(h.rows, dtype=float)
-    for row in rows:
+    buf.write(",".join(columns) + "\n")
+    for row in np.asarray(rows, dtype=float).reshape(-1, len(columns)):
         buf.write(",".join(f"{v:.10g}" for v in row) + "\n")
     return atomic_write_text(Path(folder) / "history.csv", buf.getvalue())
