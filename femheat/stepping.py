@@ -156,8 +156,9 @@ class Marcher:
         self._linear = SpdSolver(kff, method)
         self.stats.linear_method = method
         self._atol = self.settings.tolerance * self.settings.span
-        self._newton_tol = 1e-2 * self._atol
+        self._newton_tol = 0.1 * self._atol
         self._diag = None
+        self._eta = 1.0  # last observed Newton contraction rate (1: none yet)
         self._state: dict | None = None
         if self.resume is not None:
             self._restore(self.resume)
@@ -200,12 +201,20 @@ class Marcher:
             if norm <= self._newton_tol:
                 self._note(norm)
                 return temp
-            if previous is not None:
+            if previous is None:
+                # first correction: judge it with the contraction seen in earlier stages
+                eta = self._eta
+                if eta < 1.0 and eta / (1.0 - eta) * norm <= self._newton_tol:
+                    self._note(eta / (1.0 - eta) * norm)
+                    return temp
+            else:
                 rate = norm / previous
                 if rate >= 1.0:
+                    self._eta = 1.0
                     raise _NewtonFailed(f"Newton diverges (contraction {rate:.2f})")
+                self._eta = max(rate, 1e-2)
                 if rate / (1.0 - rate) * norm <= self._newton_tol:
-                    self._note(norm)
+                    self._note(rate / (1.0 - rate) * norm)
                     return temp
             previous = norm
         raise _NewtonFailed(f"Newton did not converge (last correction {norm:.3g} K)")
@@ -367,8 +376,6 @@ class Marcher:
                 h_next = s.fixed_step
             elif hh < h and factor >= 1.0:
                 h_next = max(proposal, h)  # the step was cut short by a breakpoint
-            elif hh <= proposal < 1.5 * hh:
-                h_next = hh  # keep the step (and the kept preconditioner) unless it pays
             else:
                 h_next = proposal
             step = Step(
