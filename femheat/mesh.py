@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import logging
+import os
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -292,8 +293,12 @@ def mesh_part(
         gmsh.option.setNumber("Mesh.MeshSizeMin", 0.2 * finest)
         gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
-        gmsh.option.setNumber("Mesh.Algorithm", 6)
+        # 2D: Frontal-Delaunay (6) for its regular triangles; plain Delaunay (5) for large
+        # meshes, about twice as fast. 3D: the parallel Delaunay (HXT, 10).
+        big = estimated_nodes(measure, finest, dim) > 20_000
+        gmsh.option.setNumber("Mesh.Algorithm", 5 if big else 6)
         gmsh.option.setNumber("Mesh.Algorithm3D", 10 if dim == 3 else 1)
+        gmsh.option.setNumber("General.NumThreads", os.cpu_count() or 1)
         try:
             gmsh.model.mesh.generate(dim)
         except Exception as exc:
