@@ -122,7 +122,7 @@ def _encode(v, arrays: dict, path: str):
             len(v) >= _ROWS_MIN
             and all(isinstance(r, list) and r for r in v)
             and len({len(r) for r in v}) == 1
-            and all(type(x) is float for r in v for x in r)
+            and all(isinstance(x, float) for r in v for x in r)
         ):
             key = f"a{len(arrays)}"
             arrays[key] = np.asarray(v, dtype=float)
@@ -345,6 +345,9 @@ def _atomic_bytes(path: Path, data: bytes) -> None:
             f.write(data)
             f.flush()
             os.fsync(f.fileno())
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)  # the usual permissions, not mkstemp's 0600
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):

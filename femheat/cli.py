@@ -24,6 +24,30 @@ CAUTION = (
 )
 
 
+def _seconds(text: str) -> float:
+    value = float(text)
+    if not value >= 0:
+        raise argparse.ArgumentTypeError(f"expected seconds >= 0, got {text!r}")
+    return value
+
+
+def _add_run_options(p) -> None:
+    p.add_argument(
+        "--checkpoint-every",
+        type=_seconds,
+        default=30.0,
+        metavar="S",
+        help="write a checkpoint every S seconds of wall time (default: %(default)g; 0: only "
+        "when interrupted)",
+    )
+    p.add_argument(
+        "--check-accuracy",
+        action="store_true",
+        help="repeat the run on a mesh of half the element size with 1/8 of the tolerance and "
+        "report the estimated error of the time to target (several times the run's cost)",
+    )
+
+
 def _parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="femheat",
@@ -41,6 +65,12 @@ def _parser() -> argparse.ArgumentParser:
     r.add_argument(
         "--units", choices=("si", "us"), default="si", help="also print F and inches (us)"
     )
+    r.add_argument(
+        "--resume",
+        metavar="DIR",
+        help="continue the interrupted run whose results folder is DIR (from its checkpoint)",
+    )
+    _add_run_options(r)
 
     d = sub.add_parser("demo", help="run the built-in demonstration case")
     d.add_argument("--out", default="femheat_demo", help="results folder (default: %(default)s)")
@@ -48,6 +78,7 @@ def _parser() -> argparse.ArgumentParser:
     d.add_argument(
         "--units", choices=("si", "us"), default="si", help="also print F and inches (us)"
     )
+    _add_run_options(d)
 
     c = sub.add_parser("check", help="check a case file and its mesh without running it")
     c.add_argument("case", help="case file (TOML)")
@@ -64,6 +95,12 @@ def _parser() -> argparse.ArgumentParser:
     from .shapes_cli import add_parser as add_shapes_parser
 
     add_shapes_parser(sub)
+    from .sweep_cli import add_parser as add_sweep_parser
+
+    add_sweep_parser(sub)
+    from .fit_cli import add_parser as add_fit_parser
+
+    add_fit_parser(sub)
     return p
 
 
@@ -148,28 +185,19 @@ def _print_schedule(problem, console, units: str) -> None:
             console.print(f"    {line}", markup=False)
 
 
-def _run_case(case, out: Path, console, quiet: bool, units: str = "si", case_text="") -> int:
-    from .api import Results, recorder_for
-    from .output.progress import RunProgress
-    from .problem import build_problem
-    from .run import run_problem
+def _run_case(case, out: Path, console, args, case_text: str, source: str) -> int:
+    """Run through `femheat.run_cli` (interrupts, checkpoints, resume, accuracy check)."""
+    from .run_cli import RunOptions, run_case
 
-    _writable(out)
-    problem = build_problem(case)
-    if not quiet:
-        _print_schedule(problem, console, units)
-    recorder = recorder_for(problem, case.output, out)  # field frames written as they come
-    with RunProgress.for_problem(console, problem, enabled=not quiet) as bar:
-        result = run_problem(problem, observers=[recorder, bar])
-    recorder.finish()
-    try:
-        # summary.json, history.csv, then the plots, pictures and report.html per [output]
-        Results(result, recorder, case, case_text).save(out)
-    except OSError as exc:
-        _print_result(result, out, console, quiet, units)
-        raise FemheatError(f"results could not be written to {out}: {exc}") from None
-    _print_result(result, out, console, quiet, units)
-    return 0
+    resume = getattr(args, "resume", None)
+    options = RunOptions(
+        quiet=args.quiet,
+        units=args.units,
+        resume=Path(resume) if resume else None,
+        checkpoint_every=args.checkpoint_every,
+        check_accuracy=args.check_accuracy,
+    )
+    return run_case(case, out, console, options, case_text, source)
 
 
 def _writable(out: Path) -> None:
@@ -201,6 +229,11 @@ def _check(case, console) -> int:
         label = problem.face_labels.get(g.name, "")
         unit = "m2 per m depth" if problem.part_model == "planar" else "m2"
         console.print(f"  face {g.name}: {label} (area {g.area:.4g} {unit})")
+    from .resources import estimate_run
+
+    console.print(f"  {estimate_run(m.nodes, m.dim, problem.settings).line()}", markup=False)
+    for w in problem.warnings:
+        console.print(f"  [yellow]warning:[/yellow] {w}")
     return 0
 
 
@@ -223,7 +256,7 @@ def main(argv: list[str] | None = None) -> int:
             _writable(out)
             (out / "demo_case.toml").write_text(text, encoding="utf-8")
             case = parse_case(tomllib.loads(text), source="demo case")
-            return _run_case(case, out, console, args.quiet, args.units, text)
+            return _run_case(case, out, console, args, text, str(out / "demo_case.toml"))
         if args.command == "estimate":
             from .estimate_cli import run as run_estimate
 
@@ -240,12 +273,17 @@ def main(argv: list[str] | None = None) -> int:
             from .shapes_cli import run as run_shapes
 
             return run_shapes(args, console)
+        if args.command in ("sweep", "fit"):
+            from .fit_cli import run as run_fit
+            from .sweep_cli import run as run_sweep
+
+            return (run_sweep if args.command == "sweep" else run_fit)(args, console)
         case = load_case(args.case)
         if args.command == "check":
             return _check(case, console)
-        out = Path(args.out) if args.out else Path(f"{Path(args.case).stem}_results")
+        out = Path(args.out or args.resume or f"{Path(args.case).stem}_results")
         text = Path(args.case).read_text(encoding="utf-8")  # echoed in report.html
-        return _run_case(case, out, console, args.quiet, args.units, text)
+        return _run_case(case, out, console, args, text, args.case)
     except CaseError as exc:
         err.print(f"error: {exc}", markup=False)
         return 2

@@ -26,6 +26,7 @@ from .materials import Material, Table
 from .mesh import PartMesh, mesh_part
 from .model import Model, build_model
 from .program import ScheduleReader, to_schedule
+from .resources import estimate_run
 from .stepping import StepSettings
 
 __all__ = ["Target", "Problem", "build_problem", "material_from_case", "schedule_from_case"]
@@ -287,6 +288,40 @@ def probe_matrix(mesh: PartMesh, points: np.ndarray):
     raise CaseError("probes", "a probe lies outside the part", "check the probe points")
 
 
+PLAUSIBLE_M = (1e-4, 5.0, 50.0)
+"""Furnace part dimensions, m: smallest at least 0.1 mm, smallest at most 5 m, largest at
+most 50 m (judgement: a part outside these is a unit slip; common practice, no source)."""
+
+
+def _check_plausible(part, smallest: float, largest: float, what: str) -> None:
+    """Refuse part dimensions (m) no furnace part has: most often millimetres given as metres."""
+    lo, small_max, large_max = PLAUSIBLE_M
+    given = dict(part.model_extra or {})
+    where = next((f"part.{k}" for k in ("size", "scale", "mesh", "file") if k in given), "part")
+    if smallest > small_max or largest > large_max:
+        size = f"{what} {smallest:g} m" if smallest > small_max else f"{what} {largest:g} m"
+        raise CaseError(
+            where,
+            f"{size}: implausible for a furnace part; did you give millimetres?",
+            "give dimensions in metres (e.g. 0.04 for 40 mm) or with a unit (\"40 mm\")",
+        )
+    if smallest < lo:
+        raise CaseError(
+            where,
+            f"{what} {smallest:g} m: implausible for a furnace part (under 0.1 mm)",
+            "give dimensions in metres (e.g. 0.04 for 40 mm) or with a unit (\"40 mm\")",
+        )
+
+
+def _check_mesh(case, mesh: PartMesh) -> None:
+    """The built part's size is plausible and its run fits in memory."""
+    from .resources import check_memory
+
+    sides = mesh.points.max(axis=0) - mesh.points.min(axis=0)
+    _check_plausible(case.part, float(sides.min()), float(sides.max()), "part (bounding box)")
+    check_memory(mesh.nodes, mesh.dim, mesh.size, case.mesh.size is not None)
+
+
 def _mesh(case, params: dict, size: float | None) -> PartMesh:
     """Mesh the case's part with its mesh controls."""
     spec = case.mesh
@@ -318,6 +353,8 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
             'use element = "P1" and a smaller mesh.size for more accuracy',
         )
     thickness = shape.thickness(params) if shape.thickness else None
+    if thickness is not None:  # before meshing: a slip in units would mesh a huge part
+        _check_plausible(part, thickness, thickness, "thinnest section")
     if size is not None and thickness is not None and size > thickness:
         raise CaseError(
             "mesh.size",
@@ -327,6 +364,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     if not names:  # faces known only once built: CAD and mesh files, face selections
         if mesh is None:
             mesh = _mesh(case, params, size)
+        _check_mesh(case, mesh)
         names = mesh.face_names
     note = ""
     if thickness is not None:
@@ -345,6 +383,7 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     material = material_from_case(case.material, case.base_dir)
     if mesh is None:
         mesh = _mesh(case, params, size)
+    _check_mesh(case, mesh)
     model = build_model(mesh, material, conds)
     if uniform:
         initial = np.full(mesh.nodes, initial_c)
@@ -385,6 +424,9 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
     )
     if target is None and settings.end_time is None:
         log.info("no target and no end time: the run goes on until the field settles")
+    long_run = estimate_run(mesh.nodes, mesh.dim, settings).warning(mesh.dim)
+    if long_run:
+        warnings.append(long_run)
     return Problem(
         title=case.title,
         part_model=part.model,

@@ -9,6 +9,12 @@ from pathlib import Path
 __all__ = ["atomic_write_text"]
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def atomic_write_text(path: str | os.PathLike, text: str) -> Path:
     """Write `text` to `path` so that readers see the old file or the whole new one."""
     path = Path(path)
@@ -19,6 +25,7 @@ def atomic_write_text(path: str | os.PathLike, text: str) -> Path:
             f.write(text)
             f.flush()
             os.fsync(f.fileno())
+        os.chmod(tmp, 0o666 & ~_umask())  # the usual permissions, not mkstemp's 0600
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):

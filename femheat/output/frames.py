@@ -139,6 +139,7 @@ class FrameRecorder:
         self._watch = TargetWatch(target_c, heating, points) if target_c is not None else None
         self._next_interval = self.interval if self.interval else np.inf
         self._last_step: Step | None = None
+        self._resumed_end: tuple | None = None  # (t, temperature, rate) of a checkpoint
         self._finished = False
         self.rates = RateHistory([], [], [], [])
         n = np.asarray(initial).shape[0]
@@ -249,6 +250,10 @@ class FrameRecorder:
             return self.last
         self._finished = True
         step = self._last_step
+        if step is None and self._resumed_end is not None:  # resumed; no step after it
+            t, temp, rate = self._resumed_end
+            self._emit(t, ("end",), temp, self._ttt(t), rate)
+            return self.last
         if step is None:
             tags = tuple(dict.fromkeys(self.last.tags + ("end",)))
             self._replace_last(Frame(0, 0.0, tags, *self._arrays(self.last)))
@@ -259,3 +264,46 @@ class FrameRecorder:
     @staticmethod
     def _arrays(frame: Frame):
         return frame.temperature, frame.time_to_target, frame.heating_rate
+
+    # -- checkpoints ------------------------------------------------------------------------------
+    def state(self) -> dict:
+        """What a checkpoint keeps to continue this recorder: plain values and arrays."""
+        from ..checkpoint import plain_state
+
+        def frame(f: Frame | None):
+            return None if f is None else {**vars(f), "tags": list(f.tags)}
+
+        step = self._last_step
+        end = None if step is None else (step.t1, step.end.copy(), np.array(step.rate))
+        return {
+            "count": self.count,
+            "next_interval": self._next_interval,
+            "rates": np.array(
+                [self.rates.time_s, self.rates.fastest, self.rates.slowest, self.rates.mean],
+                dtype=float,
+            ).reshape(4, -1),
+            "watch": plain_state(self._watch) if self._watch is not None else None,
+            "last": frame(self.last),
+            "at_target": frame(self.at_target),
+            "frames": [frame(f) for f in self.frames],
+            "end": end if end is not None else self._resumed_end,
+        }
+
+    def restore(self, state: dict) -> None:
+        """Continue from `state()` of a recorder of the same run; the sinks are not replayed
+        (frames already written stay where they are)."""
+        from ..checkpoint import restore_plain
+
+        def frame(d):
+            return None if d is None else Frame(**{**d, "tags": tuple(d["tags"])})
+
+        self.count = int(state["count"])
+        self._next_interval = float(state["next_interval"])
+        self.rates = RateHistory(*[list(map(float, col)) for col in state["rates"]])
+        if self._watch is not None and state["watch"] is not None:
+            restore_plain(self._watch, state["watch"])
+        self.last = frame(state["last"])
+        self.at_target = frame(state["at_target"])
+        self.frames = [frame(d) for d in state["frames"]] if self.keep else []
+        self._resumed_end = tuple(state["end"]) if state["end"] is not None else None
+        self._last_step = None

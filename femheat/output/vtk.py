@@ -172,6 +172,14 @@ class VtkSeriesWriter:
         rows = [self.entries[k] for k in sorted(self.entries)]
         atomic_write_text(self.pvd_path, pvd_text(rows, self.note))
 
+    def state(self) -> dict:
+        """What a checkpoint keeps: the frames listed in the collection so far."""
+        return {"entries": [[k, t, name] for k, (t, name) in sorted(self.entries.items())]}
+
+    def restore(self, state: dict) -> None:
+        """Continue a series from `state()`; its frame files are already in the folder."""
+        self.entries = {int(k): (float(t), str(name)) for k, t, name in state["entries"]}
+
 
 def write_series(
     folder: str | os.PathLike, mesh: PartMesh, frames, target_c: float | None = None
