@@ -10,6 +10,10 @@ A checkpoint is written into the results folder as
   reader sees the previous checkpoint or the whole new one.
 * ``checkpoint.json``: the same ``meta`` for people (time reached, steps, when written),
   written after the ``.npz``; the ``.npz`` alone is read on resume.
+* ``checkpoint_mesh.npz``: the mesh of the run, written once (with the first checkpoint).
+  A resumed run continues on this very mesh instead of meshing again (3D meshing on several
+  threads does not give the same mesh twice); its coordinates must hash to the value in
+  ``meta``.
 
 `CheckpointWriter` is an observer of the march: it asks the `femheat.run.RunState` for a
 snapshot every `every_s` seconds of wall time (never more often than 20 times the time a
@@ -30,6 +34,7 @@ import math
 import os
 import tempfile
 import time
+import zipfile
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -42,10 +47,13 @@ __all__ = [
     "FORMAT",
     "NPZ_NAME",
     "JSON_NAME",
+    "MESH_NAME",
     "CaseIdentity",
     "Checkpoint",
     "CheckpointWriter",
     "mesh_identity",
+    "write_mesh",
+    "read_mesh",
     "plain_state",
     "restore_plain",
     "read_checkpoint",
@@ -55,6 +63,7 @@ __all__ = [
 FORMAT = 1
 NPZ_NAME = "checkpoint.npz"
 JSON_NAME = "checkpoint.json"
+MESH_NAME = "checkpoint_mesh.npz"
 _ROWS_MIN = 8  # lists of at least this many equal numeric rows are stored as one array
 
 
@@ -187,6 +196,30 @@ def mesh_identity(mesh) -> dict:
     }
 
 
+def write_mesh(path: Path, mesh) -> None:
+    """Write a `femheat.mesh.PartMesh` to an .npz file atomically."""
+    arrays = {"points": mesh.points, "cells": mesh.cells}
+    arrays.update({f"face:{k}": v for k, v in mesh.faces.items()})
+    arrays.update({f"zone:{k}": v for k, v in mesh.zones.items()})
+    info = {"axisymmetric": bool(mesh.axisymmetric), "size": float(mesh.size)}
+    buf = io.BytesIO()
+    np.savez(buf, info=np.array(json.dumps(info)), **arrays)
+    _atomic_bytes(path, buf.getvalue())
+
+
+def read_mesh(path: Path):
+    """Read a mesh written by `write_mesh` (a `femheat.mesh.PartMesh`)."""
+    from .mesh import PartMesh
+
+    with np.load(path, allow_pickle=False) as data:
+        info = json.loads(str(data["info"]))
+        faces = {k[5:]: data[k] for k in data.files if k.startswith("face:")}
+        zones = {k[5:]: data[k] for k in data.files if k.startswith("zone:")}
+        return PartMesh(
+            data["points"], data["cells"], faces, info["axisymmetric"], info["size"], zones
+        )
+
+
 def _show(v) -> str:
     text = json.dumps(v, separators=(",", ":"))
     return text if len(text) <= 40 else text[:37] + "..."
@@ -286,6 +319,30 @@ class Checkpoint:
             "run without --resume (the mesher or femheat version has changed)",
         )
 
+    def load_mesh(self):
+        """The mesh the checkpointed run was made on (`femheat.mesh.PartMesh`).
+
+        Raises:
+            CaseError: at ``--resume`` when the mesh file is missing, damaged or not the
+                checkpoint's.
+        """
+        path = self.folder / MESH_NAME
+        try:
+            mesh = read_mesh(path)
+        except (OSError, ValueError, KeyError, TypeError, zipfile.BadZipFile) as exc:
+            raise CaseError(
+                "--resume",
+                f"the mesh of the checkpoint, {str(path)!r}, cannot be read ({exc})",
+                "run without --resume",
+            ) from None
+        if mesh_identity(mesh) != self.meta["mesh"]:
+            raise CaseError(
+                "--resume",
+                f"{str(path)!r} is not the mesh of the checkpoint beside it",
+                "run without --resume",
+            )
+        return mesh
+
 
 def read_checkpoint(folder: str | os.PathLike, where: str = "--resume") -> Checkpoint:
     """Read the checkpoint in a results folder.
@@ -310,7 +367,7 @@ def read_checkpoint(folder: str | os.PathLike, where: str = "--resume") -> Check
             arrays = {k: data[k] for k in data.files}
         meta = json.loads(str(arrays.pop("meta")))
         body = _decode(json.loads(str(arrays.pop("body"))), arrays)
-    except (OSError, ValueError, KeyError, TypeError) as exc:
+    except (OSError, ValueError, KeyError, TypeError, zipfile.BadZipFile) as exc:
         raise CaseError(
             where,
             f"the checkpoint {str(path)!r} cannot be read ({exc})",
@@ -328,7 +385,7 @@ def read_checkpoint(folder: str | os.PathLike, where: str = "--resume") -> Check
 
 def remove_checkpoint(folder: str | os.PathLike) -> None:
     """Delete the checkpoint files in `folder` (after the run they belong to is complete)."""
-    for name in (NPZ_NAME, JSON_NAME):
+    for name in (NPZ_NAME, JSON_NAME, MESH_NAME):
         try:
             (Path(folder) / name).unlink()
         except FileNotFoundError:
@@ -373,6 +430,7 @@ class CheckpointWriter:
         self.keep = dict(keep or {})
         self.state = None
         self.written = 0
+        self.mesh_written = False
         self.last_write_s = 0.0
         self._last = time.monotonic()
 
@@ -408,6 +466,10 @@ class CheckpointWriter:
             raise RuntimeError("the checkpoint writer is not attached to a run")
         started = time.perf_counter()
         st = self.state
+        self.folder.mkdir(parents=True, exist_ok=True)
+        if not self.mesh_written:
+            write_mesh(self.folder / MESH_NAME, st.problem.mesh)
+            self.mesh_written = True
         snap = st.marcher.snapshot()
         body = {
             "run": {
@@ -422,7 +484,6 @@ class CheckpointWriter:
         meta = self._meta(snap)
         buf = io.BytesIO()
         np.savez(buf, meta=np.array(json.dumps(meta)), body=np.array(body_text), **arrays)
-        self.folder.mkdir(parents=True, exist_ok=True)
         _atomic_bytes(self.folder / NPZ_NAME, buf.getvalue())
         readable = {k: v for k, v in meta.items() if k not in ("case", "case_text")}
         text = json.dumps(readable, indent=2) + "\n"

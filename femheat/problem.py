@@ -293,23 +293,44 @@ PLAUSIBLE_M = (1e-4, 5.0, 50.0)
 most 50 m (judgement: a part outside these is a unit slip; common practice, no source)."""
 
 
-def _check_plausible(part, smallest: float, largest: float, what: str) -> None:
-    """Refuse part dimensions (m) no furnace part has: most often millimetres given as metres."""
+def _largest_parameter(shape, params: dict) -> tuple[str, float] | None:
+    """(name, value) of the largest length among a shape's parameters, m (None if none)."""
+    best = None
+    for p in shape.params:
+        if p.kind not in ("length", "length0", "lengths", "pairs") or p.name == "scale":
+            continue
+        values = np.ravel(np.asarray(params.get(p.name, ()), dtype=object))
+        lengths = [float(v) for v in values if isinstance(v, int | float)]
+        if lengths and (best is None or max(lengths) > best[1]):
+            best = (p.name, max(lengths))
+    return best
+
+
+def _check_plausible(part, what: str, smallest=None, largest=None, where=None) -> None:
+    """Refuse part dimensions (m) no furnace part has: most often millimetres given as metres.
+
+    Args:
+        part: the case's ``[part]``. what: how the message names the dimension.
+        smallest, largest: the dimensions to check, m (None: not known).
+        where: the place in the case file (default: the part's size, scale, mesh or file).
+    """
     lo, small_max, large_max = PLAUSIBLE_M
-    given = dict(part.model_extra or {})
-    where = next((f"part.{k}" for k in ("size", "scale", "mesh", "file") if k in given), "part")
-    if smallest > small_max or largest > large_max:
-        size = f"{what} {smallest:g} m" if smallest > small_max else f"{what} {largest:g} m"
+    if where is None:
+        given = dict(part.model_extra or {})
+        keys = ("size", "scale", "mesh", "file")
+        where = next((f"part.{k}" for k in keys if k in given), "part")
+    fix = 'give dimensions in metres (e.g. 0.04 for 40 mm) or with a unit ("40 mm")'
+    too_large = [(v, lim) for v, lim in ((smallest, small_max), (largest, large_max)) if v]
+    for value, limit in too_large:
+        if value > limit:
+            raise CaseError(
+                where,
+                f"{what} {value:g} m: implausible for a furnace part; did you give millimetres?",
+                fix,
+            )
+    if smallest is not None and smallest < lo:
         raise CaseError(
-            where,
-            f"{size}: implausible for a furnace part; did you give millimetres?",
-            "give dimensions in metres (e.g. 0.04 for 40 mm) or with a unit (\"40 mm\")",
-        )
-    if smallest < lo:
-        raise CaseError(
-            where,
-            f"{what} {smallest:g} m: implausible for a furnace part (under 0.1 mm)",
-            "give dimensions in metres (e.g. 0.04 for 40 mm) or with a unit (\"40 mm\")",
+            where, f"{what} {smallest:g} m: implausible for a furnace part (under 0.1 mm)", fix
         )
 
 
@@ -318,7 +339,7 @@ def _check_mesh(case, mesh: PartMesh) -> None:
     from .resources import check_memory
 
     sides = mesh.points.max(axis=0) - mesh.points.min(axis=0)
-    _check_plausible(case.part, float(sides.min()), float(sides.max()), "part (bounding box)")
+    _check_plausible(case.part, "part (bounding box)", float(sides.min()), float(sides.max()))
     check_memory(mesh.nodes, mesh.dim, mesh.size, case.mesh.size is not None)
 
 
@@ -353,8 +374,13 @@ def build_problem(case, mesh: PartMesh | None = None) -> Problem:
             'use element = "P1" and a smaller mesh.size for more accuracy',
         )
     thickness = shape.thickness(params) if shape.thickness else None
-    if thickness is not None:  # before meshing: a slip in units would mesh a huge part
-        _check_plausible(part, thickness, thickness, "thinnest section")
+    # before meshing: a slip in units would mesh a huge part
+    if thickness is not None:
+        _check_plausible(part, "thinnest section", smallest=thickness)
+    largest = _largest_parameter(shape, params)
+    if largest is not None:
+        name, value = largest
+        _check_plausible(part, name, largest=value, where=f"part.{name}")
     if size is not None and thickness is not None and size > thickness:
         raise CaseError(
             "mesh.size",

@@ -143,8 +143,7 @@ class RunEstimate:
             advice.append("a larger solver.fixed_step")
         return (
             f"this run may take about {_duration(self.wall_s)} (about {self.steps:.0f} steps "
-            f"of {self.step_s:.2g} s; a rough estimate); to shorten it try "
-            + " or ".join(advice)
+            f"of {self.step_s:.2g} s; a rough estimate); to shorten it try " + " or ".join(advice)
         )
 
 

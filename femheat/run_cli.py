@@ -84,9 +84,8 @@ def run_case(case, out: Path, console, options: RunOptions, case_text: str, sour
     _writable(out)
     identity = CaseIdentity.of(case, case_text, source)
     ckpt = _load_checkpoint(options, out, identity)
-    problem = build_problem(case)
-    if ckpt is not None:
-        ckpt.check_mesh(problem.mesh, source)
+    # a resumed run continues on the checkpoint's own mesh (meshing again may differ)
+    problem = build_problem(case, mesh=ckpt.load_mesh() if ckpt is not None else None)
     if not options.quiet:
         _print_schedule(problem, console, options.units)
         est = estimate_run(problem.mesh.nodes, problem.mesh.dim, problem.settings)
