@@ -30,6 +30,7 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+import logging
 import math
 import os
 import tempfile
@@ -42,6 +43,8 @@ import numpy as np
 
 from . import __version__
 from .errors import CaseError
+
+log = logging.getLogger(__name__)
 
 __all__ = [
     "FORMAT",
@@ -430,6 +433,7 @@ class CheckpointWriter:
         self.keep = dict(keep or {})
         self.state = None
         self.written = 0
+        self.failed = ""  # why checkpoints stopped during the run ("" if they did not)
         self.mesh_written = False
         self.last_write_s = 0.0
         self._last = time.monotonic()
@@ -444,7 +448,12 @@ class CheckpointWriter:
             return
         wait = max(self.every_s, 20.0 * self.last_write_s)
         if time.monotonic() - self._last >= wait:
-            self.write()
+            try:
+                self.write()
+            except OSError as exc:  # a full disk must not stop the run: no more checkpoints
+                self.failed = f"checkpoints stopped: {exc.strerror or exc}"
+                self.every_s = None
+                log.warning(self.failed)
 
     def _meta(self, snap: dict) -> dict:
         return {

@@ -1,19 +1,21 @@
 """Resource guards: refuse a mesh too large for the memory, warn before a very long run.
 
 Both estimates are rough (within a factor of about 2), measured with
-``benchmarks/memory_per_node.py`` on a 2-core development machine with this version:
+``benchmarks/memory_per_node.py`` on a 2-core development machine with this version (a planar
+rectangle and a solid box, temperature-dependent steel, several element sizes, each in a fresh
+process):
 
-* Memory. Peak resident memory of building and marching a planar rectangle and a solid box
-  at several mesh sizes rose by 2.8 to 4.1 kB per node in 2D (6 k to 190 k nodes, direct
-  solver) and by 6.1 to 12.9 kB per node in 3D (2 k to 130 k nodes; the 3D direct solver,
-  used up to 8000 unknowns, is the costly end), over about 110 MB for the interpreter and the
-  libraries. Taken here: 150 MB + 4 kB (2D) or 8 kB (3D) per node. Available memory comes
-  from psutil when it is installed, else from ``MemAvailable`` in /proc/meminfo; where
+* Memory. The peak resident memory (Linux VmHWM) rose by 2.2 to 3.5 kB per added node in 2D
+  (6 k to 107 k nodes) and by 5.1 to 8.9 kB per node in 3D (2 k to 55 k nodes; the 3D direct
+  solver, used up to 8000 unknowns, is the costly end), over about 115 MB for the interpreter
+  and the libraries. Taken here: 150 MB + 4 kB (2D) or 8 kB (3D) per node. Available memory
+  comes from psutil when it is installed, else from ``MemAvailable`` in /proc/meminfo; where
   neither tells, nothing is refused.
 * Time. Accepted steps at the default tolerance (2e-5) numbered 30 to 170 over the
   verification cases and the demo; steps grow about as tolerance^(-1/3) (a second-order
   method: local error ~ h^3), by one per schedule corner, and to at least the run time over
-  ``solver.max_step``. A step cost 1 to 12 us per node in 2D and 12 to 25 us per node in 3D;
+  ``solver.max_step``. A step cost 8 to 17 us per node in 2D and 13 to 48 us per node in 3D
+  (the high end for the 3D direct solver below 8000 unknowns, where runs are short anyway);
   taken here: 10 (2D) or 15 (3D) us per node, times (nodes / 20000)^0.3 above 20000 nodes
   (the solves grow faster than the node count).
 """

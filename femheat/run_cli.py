@@ -74,7 +74,7 @@ def run_case(case, out: Path, console, options: RunOptions, case_text: str, sour
     from .checkpoint import CaseIdentity, CheckpointWriter, remove_checkpoint
     from .cli import _print_result, _print_schedule, _writable
     from .interrupt import StopRequests
-    from .output.live import HistoryFlusher, mark_failed, mark_running
+    from .output.live import HistoryFlusher, mark_failed, mark_interrupted, mark_running
     from .output.progress import RunProgress
     from .output.vtk import VtkSeriesWriter
     from .problem import build_problem
@@ -120,9 +120,12 @@ def run_case(case, out: Path, console, options: RunOptions, case_text: str, sour
                     problem, [recorder, bar, flusher, writer], stop=stop, resume=resume
                 )
         except FemheatError as exc:
-            if flusher.history is not None:
-                flusher.write()
+            _flush(flusher)
             mark_failed(out, str(exc), problem.title)
+            raise
+        except KeyboardInterrupt:  # a second signal: stop at once, say so
+            _flush(flusher)
+            mark_interrupted(out, "stopped at once by a second interrupt", problem.title)
             raise
         if result.status == "interrupted":
             writer.write()  # before the end frame, so a resume continues the series
@@ -144,12 +147,24 @@ def run_case(case, out: Path, console, options: RunOptions, case_text: str, sour
         if options.check_accuracy:
             accuracy = _accuracy(case, result, results, out, console, options, stop)
     _print_result(result, out, console, options.quiet, options.units)
+    for problem_text in (writer.failed, flusher.failed):
+        if problem_text:
+            console.print(f"  [yellow]warning:[/yellow] {problem_text}")
     if accuracy is not None and not options.quiet:
         for line in accuracy.lines():
             console.print(f"  {line}", markup=False)
     if accuracy is not None and accuracy.status == "interrupted":
         return stop.exit_code
     return 0
+
+
+def _flush(flusher) -> None:
+    """Write history.csv now if the run had started (never raises)."""
+    if flusher.history is not None:
+        try:
+            flusher.write()
+        except OSError:
+            pass
 
 
 def _accuracy(case, result, results, out, console, options, stop):

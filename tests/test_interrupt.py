@@ -1,8 +1,8 @@
 """Runs stopped from outside: SIGINT, SIGTERM and SIGKILL at a random moment of the march.
 
 Each run is a subprocess (``python -m femheat run``) of a planar plate section, charged cold
-into a furnace that recovers from 650 C to 900 C (an invented case, about 3 s of stepping).
-The signal comes a random 0.3 to 1.2 s after the run has started stepping (history.csv has
+into a furnace that recovers from 650 C to 900 C (an invented case, about 4 s of stepping).
+The signal comes a random 0.2 to 0.8 s after the run has started stepping (history.csv has
 appeared; for SIGKILL, after its first checkpoint). Afterwards every file left must be
 readable: history.csv, the field frames listed in fields.pvd, summary.json (``"complete":
 false``, status "interrupted" and the signal for SIGINT/SIGTERM; status "running" after
@@ -52,9 +52,9 @@ temperature = 20
 [target]
 temperature = 880
 [mesh]
-size = 0.001
+size = 0.0007
 [solver]
-tolerance = 2e-6
+tolerance = 1e-6
 [output]
 interval = 300
 pictures = false
@@ -106,7 +106,7 @@ def runs(tmp_path_factory):
     for name, proc in procs.items():
         folder = base / name
         _wait_for(folder / ("checkpoint.json" if name == "SIGKILL" else "history.csv"), proc)
-        delays[name] = rng.uniform(0.3, 1.2)
+        delays[name] = rng.uniform(0.2, 0.8)
         time.sleep(delays[name])
         assert proc.poll() is None, f"{name}: the run ended before the signal (too fast)"
         proc.send_signal(SIGNALS[name])
@@ -180,7 +180,9 @@ def test_stopped_run_leaves_readable_files_then_resumes(runs, name, capsys):
     ref = runs["reference"]
     assert resumed["complete"] is True and resumed["status"] == "reached"
     assert resumed["target"]["time_s"] == pytest.approx(ref["target"]["time_s"], rel=1e-6), note
-    assert resumed["target"]["last_point"] == pytest.approx(ref["target"]["last_point"])
+    # nodes near the centre reach the target within round-off of each other: the last one
+    # may be a neighbour, within two elements (0.7 mm)
+    assert resumed["target"]["last_point"] == pytest.approx(ref["target"]["last_point"], abs=1.4e-3)
     full = _read_history(folder / "history.csv")
     assert full.shape[0] == pytest.approx(ref["solver"]["steps"] + 1, abs=3)
     assert _read_frames(folder) >= frames

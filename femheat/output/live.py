@@ -12,6 +12,7 @@
 from __future__ import annotations
 
 import json
+import logging
 import time
 from pathlib import Path
 
@@ -19,7 +20,9 @@ from .. import __version__
 from .files import atomic_write_text
 from .summary import write_history_rows
 
-__all__ = ["HistoryFlusher", "mark_running", "mark_failed"]
+__all__ = ["HistoryFlusher", "mark_running", "mark_failed", "mark_interrupted"]
+
+log = logging.getLogger(__name__)
 
 
 class HistoryFlusher:
@@ -35,6 +38,7 @@ class HistoryFlusher:
         self.every_s = float(every_s)
         self.history = None
         self.writes = 0
+        self.failed = ""  # why the rewrites stopped ("" if they did not)
         self.last_write_s = 0.0
         self._last: float | None = None
 
@@ -43,12 +47,16 @@ class HistoryFlusher:
         self.history = state.watchers["history"]
 
     def __call__(self, step) -> None:
-        if self.history is None:
+        if self.history is None or self.failed:
             return
         now = time.monotonic()
         wait = max(self.every_s, 20.0 * self.last_write_s)
         if self._last is None or now - self._last >= wait:
-            self.write()
+            try:
+                self.write()
+            except OSError as exc:  # the run goes on; the history is written at its end
+                self.failed = f"history.csv could not be written during the run: {exc}"
+                log.warning(self.failed)
 
     def write(self) -> Path:
         """Write history.csv now (every row so far)."""
@@ -88,3 +96,8 @@ def mark_running(folder, title: str = "") -> Path:
 def mark_failed(folder, reason: str, title: str = "") -> Path:
     """A summary.json for a run that failed (the march could not continue)."""
     return _marker(folder, "failed", reason, title)
+
+
+def mark_interrupted(folder, reason: str, title: str = "") -> Path:
+    """A summary.json for a run stopped before it could write its results."""
+    return _marker(folder, "interrupted", reason, title)
