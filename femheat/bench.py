@@ -509,6 +509,7 @@ def run_case(spec: Spec, timeout_s: float = DEFAULT_TIMEOUT_MIN * 60) -> Row:
     where = {"start": "before meshing was done", "meshed": "in assembly"}.get(phase, "in march")
     if phase == "march":
         where += f" (step {data.pop('steps', '?')} at t = {data.pop('t', float('nan')):.6g} s)"
+    data["floor_note"] = "not measured: the case did not finish"
     if timed_out:
         note = f"stopped after {timeout_s / 60:g} min {where}"
         return Row.from_dict({**data, "status": "timeout", "note": note})
@@ -809,9 +810,9 @@ def scaling_lines(series: list[tuple[str, list[Row]]]) -> list[str]:
         lines += [
             f"### {title}",
             "",
-            "| nodes | element size mm | mesh s | assembly s | march s | steps | march per step "
-            "ms | peak MB | base MB | others | status |",
-            "| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |",
+            "| nodes | element size mm | mesh s | assembly s | march s | steps | builds "
+            "| march per step ms | peak MB | base MB | others | status |",
+            "| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |",
         ]
         for r in rows:
             per = _scaled_value(r, "_march_per_step")
@@ -819,7 +820,8 @@ def scaling_lines(series: list[tuple[str, list[Row]]]) -> list[str]:
             status = r.status if not r.note else f"{r.status}: {r.note}"
             lines.append(
                 f"| {_f(r.nodes)} | {size} | {_t(r.mesh_s)} | {_t(r.assembly_s)} "
-                f"| {_t(r.march_s)} | {_f(r.steps)} | {_f(None if per is None else 1000 * per)} "
+                f"| {_t(r.march_s)} | {_f(r.steps)} | {_f(r.builds)} "
+                f"| {'-' if per is None else f'{1000 * per:.0f}'} "
                 f"| {_f(r.peak_mb, 4)} | {_f(r.base_mb, 4)} | {_f(r.others, 2)} | {status} |"
             )
         ok = [r for r in rows if r.status == "ok"]

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import contextlib
 import logging
-import os
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -294,11 +293,12 @@ def mesh_part(
         gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
         # 2D: Frontal-Delaunay (6) for its regular triangles; plain Delaunay (5) for large
-        # meshes, about twice as fast. 3D: the parallel Delaunay (HXT, 10).
+        # meshes, about twice as fast. 3D: HXT (10), on one thread so that the same case
+        # always gives the same mesh (its threaded runs differ from run to run).
         big = estimated_nodes(measure, finest, dim) > 20_000
         gmsh.option.setNumber("Mesh.Algorithm", 5 if big else 6)
         gmsh.option.setNumber("Mesh.Algorithm3D", 10 if dim == 3 else 1)
-        gmsh.option.setNumber("General.NumThreads", os.cpu_count() or 1)
+        gmsh.option.setNumber("General.NumThreads", 1)
         try:
             gmsh.model.mesh.generate(dim)
         except Exception as exc:
