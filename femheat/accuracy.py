@@ -10,6 +10,7 @@ fall by the same factor r^p = 4 and Richardson extrapolation applies to the sum:
     t_extrapolated = t_fine + (t_fine - t_run) / (r^p - 1)
     error of the run's time ~ t_run - t_extrapolated = (4/3) (t_run - t_fine)
 
+Quadratic (P2) elements converge faster in space; assuming order 2 then overstates the band.
 The estimate assumes both meshes are fine enough that the error follows its asymptotic order;
 the band is |t_run - t_extrapolated|. A mesh read from a file cannot be refined here.
 """

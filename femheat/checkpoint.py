@@ -204,6 +204,8 @@ def write_mesh(path: Path, mesh) -> None:
     arrays = {"points": mesh.points, "cells": mesh.cells}
     arrays.update({f"face:{k}": v for k, v in mesh.faces.items()})
     arrays.update({f"zone:{k}": v for k, v in mesh.zones.items()})
+    if mesh.curved_edges is not None:
+        arrays["curved:corners"], arrays["curved:points"] = mesh.curved_edges
     info = {"axisymmetric": bool(mesh.axisymmetric), "size": float(mesh.size)}
     buf = io.BytesIO()
     np.savez(buf, info=np.array(json.dumps(info)), **arrays)
@@ -218,8 +220,17 @@ def read_mesh(path: Path):
         info = json.loads(str(data["info"]))
         faces = {k[5:]: data[k] for k in data.files if k.startswith("face:")}
         zones = {k[5:]: data[k] for k in data.files if k.startswith("zone:")}
+        curved = None
+        if "curved:corners" in data.files:
+            curved = (data["curved:corners"], data["curved:points"])
         return PartMesh(
-            data["points"], data["cells"], faces, info["axisymmetric"], info["size"], zones
+            data["points"],
+            data["cells"],
+            faces,
+            info["axisymmetric"],
+            info["size"],
+            zones,
+            curved_edges=curved,
         )
 
 
@@ -466,7 +477,7 @@ class CheckpointWriter:
             "case_sha256": self.identity.sha256,
             "case": self.identity.values,
             "case_text": self.identity.text,
-            "mesh": mesh_identity(self.state.problem.mesh),
+            "mesh": mesh_identity(self.state.problem.model.geometry),
         }
 
     def write(self) -> Path:
@@ -477,7 +488,7 @@ class CheckpointWriter:
         st = self.state
         self.folder.mkdir(parents=True, exist_ok=True)
         if not self.mesh_written:
-            write_mesh(self.folder / MESH_NAME, st.problem.mesh)
+            write_mesh(self.folder / MESH_NAME, st.problem.model.geometry)
             self.mesh_written = True
         snap = st.marcher.snapshot()
         body = {

@@ -101,6 +101,9 @@ def _parser() -> argparse.ArgumentParser:
     from .fit_cli import add_parser as add_fit_parser
 
     add_fit_parser(sub)
+    from .plan_cli import add_parser as add_plan_parser
+
+    add_plan_parser(sub)
     return p
 
 
@@ -278,6 +281,10 @@ def main(argv: list[str] | None = None) -> int:
             from .sweep_cli import run as run_sweep
 
             return (run_sweep if args.command == "sweep" else run_fit)(args, console)
+        if args.command == "plan":
+            from .plan_cli import run as run_plan
+
+            return run_plan(args, console)
         case = load_case(args.case)
         if args.command == "check":
             return _check(case, console)

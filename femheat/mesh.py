@@ -29,6 +29,14 @@ log = logging.getLogger(__name__)
 # gmsh element type ids: 2 = 3-node triangle, 4 = 4-node tetrahedron, 1 = 2-node line
 _CELL_TYPE = {2: 2, 3: 4}
 _FACET_TYPE = {2: 1, 3: 2}
+# second order: 6-node triangle, 10-node tetrahedron; 3-node line, 6-node triangle
+_QUADRATIC_CELL_TYPE = {2: 9, 3: 11}
+_QUADRATIC_FACET_TYPE = {2: 8, 3: 9}
+# corner pairs of the edge nodes of gmsh's 6-node triangle and 10-node tetrahedron, in order
+_GMSH_EDGES = {
+    2: ((0, 1), (1, 2), (2, 0)),
+    3: ((0, 1), (1, 2), (2, 0), (3, 0), (3, 2), (3, 1)),
+}
 
 
 @dataclass(frozen=True)
@@ -52,6 +60,9 @@ class PartMesh:
     size: float = 0.0
     zones: dict[str, np.ndarray] = field(default_factory=dict)
     _cache: dict = field(default_factory=dict, repr=False, compare=False)
+    # second-order meshes from gmsh: ((M, 2) corner nodes of each edge, (M, dim) position of
+    # its middle node, on the curved geometry); None for linear meshes
+    curved_edges: tuple | None = field(default=None, repr=False, compare=False)
 
     @property
     def dim(self) -> int:
@@ -143,12 +154,19 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
 
     cell_type = _CELL_TYPE[dim]
     blocks = []
+    curved = []  # second-order meshes: (corner a, corner b, edge node) per cell edge
     for _, ent in gmsh.model.getEntities(dim):
         types, _, nodes = gmsh.model.mesh.getElements(dim, ent)
         for et, nt in zip(types, nodes, strict=True):
-            if et != cell_type:
-                raise FemheatError(f"unexpected gmsh element type {et}; only linear simplices")
-            blocks.append(nt.reshape(-1, dim + 1))
+            if et == cell_type:
+                blocks.append(nt.reshape(-1, dim + 1))
+            elif et == _QUADRATIC_CELL_TYPE[dim]:
+                full = index[nt.reshape(-1, len(_GMSH_EDGES[dim]) + dim + 1).astype(np.int64)]
+                blocks.append(nt.reshape(full.shape)[:, : dim + 1])
+                for k, (i, j) in enumerate(_GMSH_EDGES[dim]):
+                    curved.append(full[:, [i, j, dim + 1 + k]])
+            else:
+                raise FemheatError(f"unexpected gmsh element type {et}; only simplices")
     if not blocks:
         raise FemheatError("gmsh produced no cells; fix: check the geometry and mesh size")
     cells = index[np.concatenate(blocks).astype(np.int64)]
@@ -163,10 +181,14 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
             for et, nt in zip(types, nodes, strict=True):
                 if et == facet_type:
                     parts.append(nt.reshape(-1, dim))
+                elif et == _QUADRATIC_FACET_TYPE[dim]:
+                    parts.append(nt.reshape(-1, 3 if dim == 2 else 6)[:, :dim])
         faces[name] = index[np.concatenate(parts).astype(np.int64)]
 
     # keep only nodes used by cells, renumbered
-    used = np.unique(cells)
+    mark = np.zeros(coords.shape[0], dtype=bool)
+    mark[cells.ravel()] = True
+    used = np.flatnonzero(mark)
     renumber = np.full(coords.shape[0], -1, dtype=np.int64)
     renumber[used] = np.arange(used.size)
     cells = renumber[cells]
@@ -174,7 +196,57 @@ def from_gmsh(gmsh, dim: int, axisymmetric: bool = False, size: float = 0.0) -> 
     for k, v in faces.items():
         if np.any(v < 0):
             raise FemheatError(f"face {k!r} has nodes that belong to no cell")
-    return PartMesh(coords[used].copy(), cells, faces, axisymmetric, size)
+    edges = None
+    if curved:
+        e = np.concatenate(curved)
+        edges = (renumber[e[:, :2]], coords[e[:, 2]].copy())
+    return PartMesh(coords[used].copy(), cells, faces, axisymmetric, size, curved_edges=edges)
+
+
+COARSE_NODES = 4000  # the refined (surface) mesh starts from at least this many nodes
+COARSE_ACROSS = 4  # and at least this many elements across the thinnest section
+MAX_HALVINGS = 3
+
+
+def _halvings(gmsh, thickness: float | None, h: float, dim: int) -> int:
+    """How many times to halve a coarser mesh instead of meshing at size h directly.
+
+    gmsh builds a large 2D mesh (and the surface mesh of a solid) much faster by meshing at
+    2^k h and splitting every element k times (new nodes placed on the curved geometry; each
+    triangle becomes four of its own shape): 115k nodes of the angle section took 7 s
+    directly and 1.2 s so (k = 2). Only for shapes whose thinnest section is known, so that
+    the coarse mesh still has `COARSE_ACROSS` elements across it; never for the volume of a
+    solid (split tetrahedra lose quality, HXT meshes the volume fast anyway).
+    """
+    if thickness is None or thickness <= 0 or h <= 0:
+        return 0
+    area = sum(gmsh.model.occ.getMass(2, t) for _, t in gmsh.model.getEntities(2))
+    nodes = estimated_nodes(area, h, 2)
+    k = 0
+    while (
+        k < MAX_HALVINGS
+        and nodes / 4 ** (k + 1) >= COARSE_NODES
+        and 2 ** (k + 1) * h * COARSE_ACROSS <= thickness
+    ):
+        k += 1
+    return k
+
+
+def _generate(gmsh, dim: int, halvings: int) -> None:
+    """Mesh the model: the 2D mesh (of the part, or of a solid's faces) at 2^halvings times
+    the size, split `halvings` times; then a solid's volume at the full size."""
+    if halvings:
+        factor = gmsh.option.getNumber("Mesh.MeshSizeFactor")
+        gmsh.option.setNumber("Mesh.MeshSizeFactor", factor * 2.0**halvings)
+        try:
+            gmsh.model.mesh.generate(2)
+            for _ in range(halvings):
+                gmsh.model.mesh.refine()
+        finally:
+            gmsh.option.setNumber("Mesh.MeshSizeFactor", factor)
+        if dim == 2:
+            return
+    gmsh.model.mesh.generate(dim)
 
 
 def _refinement_fields(gmsh, built, dim: int, h: float, refine, corner_size) -> float:
@@ -232,6 +304,7 @@ def mesh_part(
     base_dir=None,
     refine=(),
     corner_size: float | None = None,
+    order: int = 1,
 ) -> PartMesh:
     """Build a registered shape with gmsh and mesh it; faces become named boundary groups.
 
@@ -242,6 +315,8 @@ def mesh_part(
         corner_size: finer elements (m) at every corner of the geometry.
         size: element size in m (None: from the thinnest section, enlarged if the mesh would
             exceed `DEFAULT_NODES_LIMIT` nodes).
+        order: element order the mesh is for; the default size of order 2 is twice that of
+            order 1 (about as many nodes across, once the edge midpoints are added).
 
     Raises:
         CaseError: the requested size would exceed `MAX_NODES`; the geometry failed to build.
@@ -270,7 +345,7 @@ def mesh_part(
             span = max(bbox[3] - bbox[0], bbox[4] - bbox[1], bbox[5] - bbox[2])
             thick = shape.thickness(params) if shape.thickness else None
             thick = span / 10.0 if thick is None else thick
-            h = default_size(thick, dim)
+            h = default_size(thick, dim) * order
             nodes = estimated_nodes(measure, h, dim)
             if nodes > DEFAULT_NODES_LIMIT:
                 h *= (nodes / DEFAULT_NODES_LIMIT) ** (1.0 / dim)
@@ -296,17 +371,21 @@ def mesh_part(
         # meshes, about twice as fast. 3D: HXT (10), on one thread so that the same case
         # always gives the same mesh (its threaded runs differ from run to run).
         big = estimated_nodes(measure, finest, dim) > 20_000
-        gmsh.option.setNumber("Mesh.Algorithm", 5 if big else 6)
+        halvings = _halvings(gmsh, shape.thickness(params) if shape.thickness else None, h, dim)
+        gmsh.option.setNumber("Mesh.Algorithm", 5 if big and not halvings else 6)
         gmsh.option.setNumber("Mesh.Algorithm3D", 10 if dim == 3 else 1)
         gmsh.option.setNumber("General.NumThreads", 1)
         try:
-            gmsh.model.mesh.generate(dim)
+            _generate(gmsh, dim, halvings)
         except Exception as exc:
             raise CaseError(
                 "mesh",
                 f"gmsh could not mesh the part ({exc})",
                 "try a different mesh.size or check the geometry",
             ) from None
+        if order == 2:
+            # edge nodes on the curved geometry, for second-order elements
+            gmsh.model.mesh.setOrder(2)
         mesh = from_gmsh(gmsh, dim, model == "axisymmetric", h)
     log.info("meshed %s: %d nodes, %d cells", shape_name, mesh.nodes, mesh.cells.shape[0])
     return mesh

@@ -1,11 +1,14 @@
 """The discrete heat balance: operators assembled once with scikit-fem, boundary terms by node.
 
-Semi-discrete equations for nodal temperatures T (C), P1 elements, lumped capacity:
+Semi-discrete equations for nodal temperatures T (C), P1 or P2 elements (femheat.quadratic),
+lumped capacity:
 
     m_i dH(T_i)/dt + sum_j K_ij phi(T_j) = F_i(T_i, t)
 
 * H(T) = rho int c dT is the volumetric enthalpy (J/m3) and m_i = int N_i w dV the lumped
   volume of node i; storing enthalpy (not c(T) dT/dt) conserves energy across peaks in c(T).
+  P2 elements keep the consistent capacity matrix instead: sum_j M_ij dH(T_j)/dt with
+  M_ij = int N_i N_j w dV (lumping would cost them their higher order).
 * phi(T) = int k dT is the Kirchhoff potential; K_ij = int grad N_i . grad N_j w dV is the
   constant unit-conductivity stiffness, so conduction with k(T) costs no re-assembly.
 * F_i = sum over exposed faces of b_i q(T_i, t): b_i = int N_i w dS (lumped, nodal quadrature)
@@ -116,6 +119,15 @@ class Model:
     faces: tuple[FaceGroup, ...]
     fixed_nodes: np.ndarray
     free_nodes: np.ndarray
+    element: str = "P1"  # "P2": `mesh` is the node mesh of the quadratic elements
+    # consistent capacity matrix int N_i N_j w dV (m3); None: lumped (`volumes`)
+    capacity: sp.csr_matrix | None = None
+    linear_mesh: PartMesh | None = None  # P2: the mesh the elements were built on
+
+    @property
+    def geometry(self) -> PartMesh:
+        """The mesh of the elements (for P1 the same as `mesh`): what a checkpoint keeps."""
+        return self.mesh if self.linear_mesh is None else self.linear_mesh
 
     @property
     def n(self) -> int:
@@ -124,6 +136,15 @@ class Model:
     @property
     def volume(self) -> float:
         return float(self.volumes.sum())
+
+    def store(self, density: np.ndarray) -> np.ndarray:
+        """Nodal integrals int N_i u w dV of a nodal field u (per m3), e.g. u = dH/dt in W/m3.
+
+        Lumped (`volumes * u`) unless the model carries a consistent capacity matrix.
+        """
+        if self.capacity is None:
+            return self.volumes * density
+        return self.capacity @ density
 
     def fixed_values(self, t: float) -> np.ndarray:
         """Prescribed temperatures (C) at `fixed_nodes` at time t (s); first face listed wins."""
@@ -186,7 +207,7 @@ class Model:
             flow, _ = self.boundary_flow(temperature, t)
             phi = self.material.kirchhoff(temperature)
             reaction = (
-                self.volumes[nodes] * enthalpy_rate[nodes]
+                self.store(enthalpy_rate)[nodes]
                 + self.stiffness[nodes] @ phi
                 - flow[nodes]
             )
@@ -199,28 +220,64 @@ class Model:
 
     def stored_energy(self, temperature: np.ndarray) -> float:
         """Enthalpy content sum m_i H(T_i), J (planar: per m depth), relative to 0 C."""
-        return float(self.volumes @ self.material.enthalpy(temperature))
+        return float(self.store(self.material.enthalpy(temperature)).sum())
 
     def mean_temperature(self, temperature: np.ndarray) -> float:
         """Volume-weighted mean temperature, C."""
         return float(self.volumes @ temperature / self.volumes.sum())
 
 
-def build_model(mesh: PartMesh, material: Material, conditions: dict[str, FaceCondition]) -> Model:
+def build_model(
+    mesh: PartMesh,
+    material: Material,
+    conditions: dict[str, FaceCondition],
+    element: str = "P1",
+) -> Model:
     """Assemble the operators and attach a condition to every face of the mesh.
 
     Args:
+        mesh: the linear mesh of the part.
         conditions: face name -> condition; every mesh face must be present.
+        element: "P1" (linear) or "P2" (quadratic). For P2 the model's `mesh` is the node
+            mesh of `femheat.quadratic` (the elements split at their edge midpoints), so nodal
+            fields match its points.
     """
-    stiffness, volumes = _stiffness_and_volumes(mesh)
+    linear_mesh = None
+    if element == "P2":
+        from .quadratic import quadratic_space
+
+        linear_mesh = mesh
+        space = quadratic_space(mesh)
+        stiffness, volumes, capacity = space.stiffness, space.volumes, space.capacity
+        weights_of = space.face_weights
+        mesh = space.nodes
+    elif element == "P1":
+        stiffness, volumes = _stiffness_and_volumes(mesh)
+        capacity = None
+
+        def weights_of(name):
+            return face_weights(mesh, mesh.faces[name])
+    else:
+        raise ValueError(f"unknown element {element!r}; use 'P1' or 'P2'")
     groups = []
     fixed = []
     for name in mesh.face_names:
-        nodes, weights = face_weights(mesh, mesh.faces[name])
+        nodes, weights = weights_of(name)
         cond = conditions[name]
         groups.append(FaceGroup(name, cond, nodes, weights))
         if isinstance(cond, FixedTemperature):
             fixed.append(nodes)
     fixed_nodes = np.unique(np.concatenate(fixed)) if fixed else np.zeros(0, dtype=np.int64)
     free = np.setdiff1d(np.arange(volumes.size), fixed_nodes)
-    return Model(mesh, material, stiffness, volumes, tuple(groups), fixed_nodes, free)
+    return Model(
+        mesh,
+        material,
+        stiffness,
+        volumes,
+        tuple(groups),
+        fixed_nodes,
+        free,
+        element,
+        capacity,
+        linear_mesh,
+    )

@@ -24,9 +24,11 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.sparse as sp
 
 from .errors import SolverError
 from .linear import SpdSolver, choose_method
+from .lookup import MaterialLookup
 from .model import Model
 
 __all__ = ["StepSettings", "Step", "SolverStats", "Marcher", "GAMMA"]
@@ -133,6 +135,60 @@ class _NewtonFailed(Exception):
     pass
 
 
+_HEAP_PAD = 64 * 2**20  # bytes
+# linear solves are accurate to this share of what their result is judged by: a tenth of the
+# Newton tolerance for Newton corrections, of the step tolerance for the error estimate
+_LINEAR_SHARE = 0.1
+
+
+def _keep_heap() -> None:
+    """Ask glibc's malloc to keep 64 MB of freed heap rather than hand it back at once.
+
+    The march makes many short-lived node vectors; without this, each one of 100k nodes is
+    mapped afresh from the system and costs its page faults (measured: 0.5 ms per vector,
+    more than the arithmetic on it). Only the heap's slack changes; nothing else. Other C
+    libraries and systems are left alone.
+    """
+    import ctypes
+
+    try:
+        ctypes.CDLL(None).mallopt(-2, _HEAP_PAD)  # M_TOP_PAD
+    except (OSError, AttributeError):
+        pass
+
+
+class _ConsistentJacobian:
+    """Newton's matrix with a consistent capacity matrix M (P2 elements), scaled by 1/k:
+
+        A = K + diag(d) + (M - diag(m)) diag(s),   s = a rho c / k,  d = m s - (dF/dT) / k,
+
+    which is not symmetric when s varies. Solved by GMRES, preconditioned by the lumped
+    matrix K + diag(d) (the symmetric solver); the two are spectrally close, so a few
+    iterations suffice.
+    """
+
+    def __init__(self, kff, mff, mlumped):
+        self.k = kff
+        self.excess = (mff - sp.diags(mlumped)).tocsr()
+
+    def solve(self, diag, store_k, rhs, precondition):
+        from scipy.sparse.linalg import LinearOperator, gmres
+
+        n = rhs.size
+        if n == 0:
+            return rhs.copy()
+
+        def matvec(y):
+            return self.k @ y + diag * y + self.excess @ (store_k * y)
+
+        op = LinearOperator((n, n), matvec=matvec, dtype=float)
+        prec = LinearOperator((n, n), matvec=precondition, dtype=float)
+        x, info = gmres(op, rhs, rtol=1e-6, atol=0.0, restart=40, maxiter=20, M=prec)
+        if info != 0 or not np.all(np.isfinite(x)):
+            raise _NewtonFailed(f"GMRES did not converge (info {info})")
+        return x
+
+
 @dataclass
 class Marcher:
     """Iterate to march `model` from `initial` (C per node) under `settings`.
@@ -152,9 +208,18 @@ class Marcher:
         m = self.model
         self._free = m.free_nodes
         kff = m.stiffness[self._free][:, self._free]
+        # consistent capacity (P2): Newton's matrix is no longer K + diag(d)
+        self._jacobian = None
+        if m.capacity is not None:
+            self._jacobian = _ConsistentJacobian(
+                kff, m.capacity[self._free][:, self._free], m.volumes[self._free]
+            )
         method = choose_method(self._free.size, m.mesh.dim)
-        self._linear = SpdSolver(kff, method)
-        self.stats.linear_method = method
+        self._linear = SpdSolver(kff, method, dim=m.mesh.dim)
+        self.stats.linear_method = self._linear.method
+        self._mat = MaterialLookup(m.material)  # the material tables, fast, for the march
+        # every node free (no fixed-temperature face): a slice instead of an index array
+        self._f = slice(None) if self._free.size == m.n else self._free
         self._atol = self.settings.tolerance * self.settings.span
         self._newton_tol = 0.1 * self._atol
         self._diag = None
@@ -163,13 +228,32 @@ class Marcher:
         if self.resume is not None:
             self._restore(self.resume)
 
-    def _solve(self, diag: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-        x = self._linear.solve(diag, rhs)
+    def _solve(self, diag: np.ndarray, rhs: np.ndarray, accuracy=None) -> np.ndarray:
+        """Solve (K + diag(d)) x = rhs; `accuracy` = (weights, tolerance) for
+        `SpdSolver.solve`, or None for its residual tolerance."""
+        if accuracy is None:
+            x = self._linear.solve(diag, rhs)
+        else:
+            weights, tolerance = accuracy
+            x = self._linear.solve(diag, rhs, weights=weights, tolerance=tolerance)
         ls = self._linear.stats
+        self.stats.linear_method = self._linear.method
         self.stats.factorizations = ls.builds
         self.stats.linear_solves = ls.solves
         self.stats.linear_iterations = ls.iterations
         return x
+
+    def _solve_jacobian(
+        self, diag: np.ndarray, store_k: np.ndarray, rhs: np.ndarray, accuracy=None
+    ):
+        """Solve with Newton's matrix (scaled by 1/k): K + diag(d) when the capacity is
+        lumped; K + diag(d) + (M - diag(m)) diag(store_k) when it is consistent (P2).
+
+        `accuracy`: (weights, tolerance) wanted of the solution (lumped capacity only; else a
+        relative residual of `SpdSolver.rtol`)."""
+        if self._jacobian is None:
+            return self._solve(diag, rhs, accuracy)
+        return self._jacobian.solve(diag, store_k, rhs, lambda r: self._solve(diag, r))
 
     # -- one implicit stage ------------------------------------------------------------------
     def _stage(self, guess: np.ndarray, t: float, a: float, hstar: np.ndarray) -> np.ndarray:
@@ -177,47 +261,71 @@ class Marcher:
 
         With the Kirchhoff form the Jacobian is (K + diag(d)) diag(k), d = (m a rho c - dF/dT)/k.
         """
-        m, mat, free = self.model, self.model.material, self._free
+        m, mat, free = self.model, self._mat, self._f
         temp = guess.copy()
         if m.fixed_nodes.size:
             temp[m.fixed_nodes] = m.fixed_values(t)
         previous = None
         for _ in range(10):
             flow, dflow = m.boundary_flow(temp, t)
-            resid = m.volumes * a * (mat.enthalpy(temp) - hstar)
-            resid += m.stiffness @ mat.kirchhoff(temp) - flow
-            k = mat.conductivity(temp[free])
-            diag = (m.volumes[free] * a * mat.capacity(temp[free]) - dflow[free]) / k
-            self._diag = diag
+            enthalpy, capacity = mat.enthalpy_capacity(temp)
+            phi, conductivity = mat.kirchhoff_conductivity(temp)
+            resid = m.store(a * (enthalpy - hstar))
+            resid += m.stiffness @ phi - flow
+            k = conductivity[free]
+            store_k = a * capacity[free] / k
+            diag = m.volumes[free] * store_k - dflow[free] / k
+            self._diag, self._store_k = diag, store_k
             try:
-                step = self._solve(diag, -resid[free]) / k
+                # x = k * step: its error is measured in K
+                accuracy = (1.0 / k, self._newton_accuracy)
+                step = self._solve_jacobian(diag, store_k, -resid[free], accuracy) / k
             except np.linalg.LinAlgError as exc:
                 raise _NewtonFailed(str(exc)) from None
+            linear = self._linear.last_error if self._jacobian is None else 0.0
             temp[free] += step
             self.stats.newton_iterations += 1
             norm = float(np.max(np.abs(step))) if step.size else 0.0
             if not np.isfinite(norm):
                 raise _NewtonFailed("non-finite Newton update")
-            if norm <= self._newton_tol:
-                self._note(norm)
-                return temp
-            if previous is None:
-                # first correction: judge it with the contraction seen in earlier stages
-                eta = self._eta
-                if eta < 1.0 and eta / (1.0 - eta) * norm <= self._newton_tol:
-                    self._note(eta / (1.0 - eta) * norm)
-                    return temp
-            else:
-                rate = norm / previous
+            rate = None if previous is None else norm / previous
+            if rate is not None:
                 if rate >= 1.0:
                     self._eta = 1.0
                     raise _NewtonFailed(f"Newton diverges (contraction {rate:.2f})")
                 self._eta = max(rate, 1e-2)
-                if rate / (1.0 - rate) * norm <= self._newton_tol:
-                    self._note(rate / (1.0 - rate) * norm)
-                    return temp
+            if norm + linear <= self._newton_tol:
+                self._note(norm + linear)
+                return temp
+            # the error left: the contraction seen (in earlier stages, for the first
+            # correction) times the correction, plus the error of the linear solve
+            eta = self._eta if rate is None else rate
+            left = eta / (1.0 - eta) * norm + linear if eta < 1.0 else math.inf
+            if left <= self._newton_tol:
+                self._note(left)
+                return temp
             previous = norm
         raise _NewtonFailed(f"Newton did not converge (last correction {norm:.3g} K)")
+
+    def _newton_accuracy(self, largest: float) -> float:
+        """Error (K) allowed in a Newton correction whose largest entry is `largest` K.
+
+        Enough room for the correction to end the stage at once when the contraction seen so
+        far says it may; otherwise a tenth of the correction: Newton's next iteration
+        corrects the rest, and a tighter solve would cost more than it saves.
+        """
+        tol, eta = self._newton_tol, self._eta
+        floor = _LINEAR_SHARE * tol
+        if eta < 1.0:
+            room = tol - eta / (1.0 - eta) * largest
+            if room > floor:
+                return room
+        return max(floor, _LINEAR_SHARE * largest)
+
+    def _estimate_accuracy(self, largest: float) -> float:
+        """Error (K) allowed in the filtered error estimate: a tenth of it, or of the step
+        tolerance when it is smaller (accepting or rejecting a step needs no more)."""
+        return _LINEAR_SHARE * max(self._atol, largest)
 
     def _note(self, norm: float) -> None:
         s = self.stats
@@ -317,13 +425,14 @@ class Marcher:
         from threadpoolctl import threadpool_limits
 
         limits = threadpool_limits(limits=1, user_api="blas")
+        _keep_heap()
         try:
             yield from self._march()
         finally:
             limits.restore_original_limits()
 
     def _march(self):
-        m, mat = self.model, self.model.material
+        m, mat = self.model, self._mat
         s = self.settings
         if self._state is None:
             yield self._first_step()
@@ -355,9 +464,11 @@ class Marcher:
             est = (2.0 * _ERR_CONST * hh) * (
                 hdot / GAMMA - hdot_g / (GAMMA * (1.0 - GAMMA)) + hdot_new / (1.0 - GAMMA)
             )
-            free = self._free
+            free = self._f
             k = mat.conductivity(new[free])
-            err_t = self._solve(self._diag, m.volumes[free] * a * est[free]) / k
+            accuracy = (1.0 / k, self._estimate_accuracy)
+            rhs = m.store(a * est)[free]
+            err_t = self._solve_jacobian(self._diag, self._store_k, rhs, accuracy) / k
             err = self._error_norm(err_t)
             factor = 0.9 * err ** (-1.0 / 3.0) if err > 0 else 3.0
             if s.fixed_step:

@@ -320,11 +320,12 @@ def _orient(a, b, c):
     )
 
 
-def _crossing(p, q, tol, span):
-    """Boolean matrix: piece i (p[i] -> q[i]) meets piece j (closed segments, with tolerance)."""
+def _crossing(p, q, p_all, q_all, tol, span):
+    """Boolean matrix: piece i (p[i] -> q[i]) meets piece j (p_all[j] -> q_all[j]) (closed
+    segments, with tolerance)."""
     tol_area = tol * span
     a, b = p[:, None, :], q[:, None, :]
-    c, d = p[None, :, :], q[None, :, :]
+    c, d = p_all[None, :, :], q_all[None, :, :]
     d1, d2 = _orient(a, b, c), _orient(a, b, d)
     d3, d4 = _orient(c, d, a), _orient(c, d, b)
     proper = (d1 * d2 < 0) & (d3 * d4 < 0)
@@ -378,7 +379,7 @@ def check_loops(loops: list[list[Segment]], names: list[str] | None = None) -> N
     chunk = 256
     for i0 in range(0, len(p), chunk):
         i1 = min(i0 + chunk, len(p))
-        hit = _crossing(p[i0:i1], q, tol, span)
+        hit = _crossing(p[i0:i1], q[i0:i1], p, q, tol, span)
         rows = np.arange(i0, i1)[:, None]
         cols = np.arange(len(p))[None, :]
         same = loop_of[rows] == loop_of[cols]

@@ -54,8 +54,14 @@ Errors name the file and the line, e.g.
 ``part.file: bracket.outline line 7: unknown word 'radius'; fix: after x y use face NAME,
 round R, through X Y or centre X Y``.
 
-DXF drawings are not read: no DXF reader is installed with femheat. Copy the corner
-coordinates into an outline file.
+DXF drawings
+------------
+A file whose name ends in ``.dxf`` is read as a drawing instead (`femheat.geometry.dxf`): its
+closed polylines (bulges are arcs), circles and closed chains of lines and arcs in the model
+space give the outline (the loop enclosing the others) and the holes; the layer of an edge
+names its face (layer ``0``: the default names above); units from the drawing's ``$INSUNITS``,
+or ``units = "mm"`` (m, cm, mm, in or ft) in ``[part]``, which overrides it. In the
+axisymmetric model draw a line on layer ``axis`` along x = 0 over the edges on the axis.
 """
 
 from __future__ import annotations
@@ -68,7 +74,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import CaseError
-from .base import Built, Param, ShapeDef, register
+from .base import Built, Param, ShapeDef, ShapeParamError, register
 from .loops import (
     LoopError,
     Segment,
@@ -413,7 +419,8 @@ def read_outline(path) -> Outline:
         raise CaseError(
             WHERE,
             f"{p.name} is not UTF-8 text (byte {raw[exc.start]:#04x} at offset {exc.start})",
-            "save the outline as plain UTF-8 text (DXF and other drawing files are not read)",
+            "save the outline as plain UTF-8 text (a DXF drawing is read when its name ends in "
+            "'.dxf')",
         ) from None
     outline = parse_outline(text, p.name)
     _CACHE[key] = outline
@@ -421,7 +428,30 @@ def read_outline(path) -> Outline:
 
 
 def _loops_of(params: dict, model: str) -> list[list[Segment]]:
-    return outline_loops(read_outline(params["file"]), model)
+    from .dxf import check_axis, is_dxf, read_dxf
+
+    if not is_dxf(params["file"]):
+        return outline_loops(read_outline(params["file"]), model)
+    outline = read_dxf(params["file"], params.get("units"))
+    if model == "axisymmetric":
+        check_axis(outline)  # with a fix in the drawing's terms
+    return outline_loops(outline, model)
+
+
+def _check(params: dict, model: str) -> None:
+    from .dxf import UNITS, is_dxf
+
+    units = params.get("units")
+    if units is None:
+        return
+    if not is_dxf(params["file"]):
+        raise ShapeParamError(
+            "units",
+            f"units = {units!r} is read only for DXF drawings, and {params['file']!r} is not one",
+            "write 'units mm' (m, cm, mm or in) at the top of the outline file instead",
+        )
+    if units.strip().lower() not in UNITS:
+        raise ShapeParamError("units", f"unknown unit {units!r}", f"give one of {', '.join(UNITS)}")
 
 
 def _build(gmsh, params: dict, model: str) -> Built:
@@ -429,12 +459,12 @@ def _build(gmsh, params: dict, model: str) -> Built:
 
 
 def _face_names(params: dict) -> tuple[str, ...]:
-    return face_names_of(outline_loops(read_outline(params["file"]), "planar"))
+    return face_names_of(_loops_of(params, "planar"))
 
 
 def _thickness(params: dict) -> float:
     """2 x area / perimeter: the thickness of a long strip; smaller for compact shapes."""
-    loops = outline_loops(read_outline(params["file"]), "planar")
+    loops = _loops_of(params, "planar")
     area = abs(loop_area(loops[0])) - sum(abs(loop_area(lp)) for lp in loops[1:])
     return 2.0 * area / sum(loop_length(lp) for lp in loops)
 
@@ -443,14 +473,22 @@ register(
     ShapeDef(
         name="outline",
         models=("planar", "axisymmetric"),
-        params=(Param("file", "path", "outline file, relative to the case file"),),
+        params=(
+            Param("file", "path", "outline file or DXF drawing (.dxf), relative to the case file"),
+            Param("units", "text", "DXF only: the drawing's unit, m, cm, mm, in or ft", None),
+        ),
         faces=("outline", "hole_1", "axis"),
         doc="A closed outline with optional holes, arcs and rounded corners, read from a text "
-        "file (the format is described in femheat.geometry.outline and geometries/README.md). "
-        "Faces: the names given in the file; unnamed edges are 'outline' (outer loop) or "
-        "'hole_1', 'hole_2', ... In the axisymmetric model the edges on x = 0 must be named "
-        "'axis'.",
+        "file (the format is described in femheat.geometry.outline and "
+        "geometries/outline_format.md) or from a DXF drawing (file ending in .dxf: closed "
+        "polylines, circles, closed chains of lines and arcs; the loop enclosing the others is "
+        "the outline; an edge's layer names its face; units from $INSUNITS or the key units; "
+        "see femheat.geometry.dxf). "
+        "Faces: the names given in the file; unnamed edges (layer 0) are 'outline' (outer loop) "
+        "or 'hole_1', 'hole_2', ... In the axisymmetric model the edges on x = 0 must be named "
+        "'axis' (in a drawing: a line on layer 'axis' over them).",
         build=_build,
+        check=_check,
         face_names=_face_names,
         thickness=_thickness,
         axis_faces=("axis",),

@@ -99,8 +99,10 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
         },
         "mesh": {
             "nodes": int(mesh.nodes),
-            "cells": int(mesh.cells.shape[0]),
-            "element": "P1",
+            # P2: the node mesh splits each element into 4 (2D) or 8 (3D)
+            "cells": int(mesh.cells.shape[0])
+            // (1 if p.model.element == "P1" else (4 if mesh.dim == 2 else 8)),
+            "element": p.model.element,
             "size_m": mesh.size,
             "faces": dict(p.face_labels),
             "min_quality": float(q.min()),
