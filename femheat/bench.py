@@ -27,12 +27,13 @@ What a row measures, in the child process (wall time, s):
 * the counters of `femheat.stepping.SolverStats`; "builds" are preconditioner builds
   (sparse factorisations on the direct path, multigrid hierarchies on the iterative one).
 * floor: after the run (and after peak memory is read), the matrix of the final stage,
-  K + diag(d) with d from the final temperatures and the last step size, is factorised with a
-  sparse direct solver (CHOLMOD when scikit-sparse is installed, else SuperLU with the
-  ordering `femheat.linear` uses) and one triangular-solve pair is timed (best of five, one
-  BLAS thread as in the march). The floor is accepted steps x (linear solves per accepted
-  step) x one solve; march / floor says how far the march is from it. Skipped above
-  ``--floor-max-nodes`` (default 300 000) because the 3D factorisation would not fit.
+  K + diag(d) with d from the final temperatures and the last step size, is factorised with the
+  fastest sparse direct solver available (MKL PARDISO as `femheat.linear` runs it; else CHOLMOD
+  when scikit-sparse is installed; else SuperLU with the ordering `femheat.linear` uses) and
+  one triangular-solve pair is timed (best of five, on the march's threads). The floor
+  is accepted steps x (linear solves per accepted step) x one solve; march / floor says how
+  far the march is from it. Skipped above
+  ``--floor-max-nodes`` (default 1 000 000): the factorisation of a larger 3D mesh may not fit.
 
 Wall times are those of the machine the suite runs on; a busy machine makes them longer.
 """
@@ -72,7 +73,8 @@ CASES_DIR = BENCH_DIR / "cases"
 _MARK = "@bench "  # prefix of the child's report lines on stdout
 MB = 1e6  # bytes
 DEFAULT_TIMEOUT_MIN = 30.0
-DEFAULT_FLOOR_MAX_NODES = 300_000
+CASE_TIMEOUT_MIN = {"d_angle_3d_large": 120.0}  # minutes; the 1M-node case takes its time
+DEFAULT_FLOOR_MAX_NODES = 1_000_000
 
 
 @dataclass(frozen=True)
@@ -278,6 +280,37 @@ def _final_matrix(problem, result, times):
     return (model.stiffness[free][:, free] + sp.diags(d)).tocsc()
 
 
+def _direct_solver(a, dim: int):
+    """(solve function, name) of the fastest sparse direct solver here for SPD `a` (CSC):
+    MKL PARDISO (as `femheat.linear` runs it, on as many threads), else CHOLMOD, else
+    SuperLU."""
+    import scipy.sparse as sp
+
+    from .linear import PardisoFactor, pardiso_available, solver_threads
+
+    if pardiso_available():
+        upper = sp.triu(a, format="csr")
+        upper.sort_indices()
+        threads = solver_threads(a.shape[0], dim)
+        factor = PardisoFactor(upper, threads)
+        factor.factor(upper.data)
+        return factor.solve, "PARDISO" if threads == 1 else f"PARDISO, {threads} threads"
+    try:
+        from sksparse.cholmod import cholesky
+
+        return cholesky(a), "CHOLMOD"
+    except ImportError:
+        from scipy.sparse.linalg import splu
+
+        lu = splu(
+            a,
+            permc_spec="MMD_AT_PLUS_A",
+            diag_pivot_thresh=0.0,
+            options={"SymmetricMode": True},
+        )
+        return lu.solve, "SuperLU"
+
+
 def _floor(problem, result, times) -> dict:
     """Factorise the final stage matrix and time one triangular-solve pair."""
     import numpy as np
@@ -287,21 +320,7 @@ def _floor(problem, result, times) -> dict:
     b = np.random.default_rng(0).standard_normal(a.shape[0])
     with threadpool_limits(limits=1, user_api="blas"):
         start = time.perf_counter()
-        try:
-            from sksparse.cholmod import cholesky
-
-            factor = cholesky(a)
-            solve, method = factor, "CHOLMOD"
-        except ImportError:
-            from scipy.sparse.linalg import splu
-
-            lu = splu(
-                a,
-                permc_spec="MMD_AT_PLUS_A",
-                diag_pivot_thresh=0.0,
-                options={"SymmetricMode": True},
-            )
-            solve, method = lu.solve, "SuperLU"
+        solve, method = _direct_solver(a, problem.mesh.dim)
         factor_s = time.perf_counter() - start
         best = math.inf
         for _ in range(5):
@@ -343,6 +362,9 @@ def _measure(spec: Spec, started: float) -> Row:
 
     if case.part.model == "solid":
         import pyamg  # noqa: F401
+    from .linear import pardiso_available
+
+    pardiso_available()  # loads the MKL runtime when it is there
     base_mb = _maxrss_mb()
     out: dict = {"name": spec.name, "label": spec.label, "quick": spec.quick}
     out["mesh_size"] = spec.mesh_size
@@ -554,7 +576,7 @@ def _versions() -> dict[str, str]:
     from importlib import metadata
 
     out = {"Python": platform.python_version()}
-    for dist in ("numpy", "scipy", "scikit-fem", "gmsh", "pyamg", "scikit-sparse"):
+    for dist in ("numpy", "scipy", "scikit-fem", "gmsh", "pyamg", "mkl", "scikit-sparse"):
         try:
             out[dist] = metadata.version(dist)
         except metadata.PackageNotFoundError:
@@ -844,8 +866,13 @@ def results_text(
     note: str = "",
     command: str = "python -m femheat.bench --scaling --write",
     date: str = "",
+    explanation: str = "",
 ) -> str:
-    """The text of ``benchmarks/RESULTS.md``."""
+    """The text of ``benchmarks/RESULTS.md``.
+
+    `explanation`: markdown placed after the targets table (``benchmarks/TARGETS.md``: which
+    targets are not met, why, and what it would take).
+    """
     from . import __version__
 
     today = date or datetime.date.today().isoformat()
@@ -890,10 +917,12 @@ def results_text(
         "",
         *_targets({r.name: r for r in rows}, quick),
         "",
+        *([explanation.strip(), ""] if explanation.strip() else []),
         "## Triangular-solve floor",
         "",
         "The final stage matrix K + diag(d) factorised once with a sparse direct solver; one "
-        "solve is one forward and backward triangular solve (best of five, one BLAS thread). "
+        "solve is one forward and backward triangular solve (best of five, on the threads the "
+        "march gives the solver). "
         "Floor = accepted steps x linear solves per accepted step x one solve. March / floor "
         "is the factor by which the march (Newton residuals, conjugate-gradient iterations, "
         "preconditioner builds, watchers) exceeds it. Where the march took the multigrid path, "
@@ -935,9 +964,15 @@ def _specs(args) -> list[Spec]:
     return specs
 
 
-def _run_all(specs: list[Spec], timeout_min: float) -> list[Row]:
+def _timeout_min(name: str, given: float | None) -> float:
+    """Minutes a case may run: `given` (``--timeout``), else its own default."""
+    return given if given is not None else CASE_TIMEOUT_MIN.get(name, DEFAULT_TIMEOUT_MIN)
+
+
+def _run_all(specs: list[Spec], timeout: float | None) -> list[Row]:
     rows = []
     for spec in specs:
+        timeout_min = _timeout_min(spec.name, timeout)
         print(f"\n{spec.label}: running (timeout {timeout_min:g} min)", flush=True)
         row = run_case(spec, timeout_min * 60)
         rows.append(row)
@@ -946,7 +981,7 @@ def _run_all(specs: list[Spec], timeout_min: float) -> list[Row]:
 
 
 def _scaling_series(args, done: list[Row]) -> list[tuple[str, list[Row]]]:
-    timeout = args.timeout * 60
+    timeout = _timeout_min("scaling", args.timeout) * 60
     series = []
     for title, source, full, quick in _SCALING:
         rows = []
@@ -988,8 +1023,10 @@ def _parser() -> argparse.ArgumentParser:
     p.add_argument(
         "--timeout",
         type=float,
-        default=DEFAULT_TIMEOUT_MIN,
-        help=f"minutes allowed per case before it is stopped (default {DEFAULT_TIMEOUT_MIN:g})",
+        default=None,
+        help=f"minutes allowed per case before it is stopped (default {DEFAULT_TIMEOUT_MIN:g}; "
+        + ", ".join(f"{k} {v:g}" for k, v in CASE_TIMEOUT_MIN.items())
+        + ")",
     )
     p.add_argument("--case", action="append", help="also benchmark this case file (repeatable)")
     p.add_argument("--no-floor", action="store_true", help="skip the triangular-solve floor")
@@ -1035,7 +1072,16 @@ def _text_from(data: dict) -> str:
         note=data.get("note", ""),
         command=data["command"],
         date=data.get("date", ""),
+        explanation=_explanation(),
     )
+
+
+def _explanation() -> str:
+    """The text of ``benchmarks/TARGETS.md`` (why targets are not met), if there is one."""
+    try:
+        return (BENCH_DIR / "TARGETS.md").read_text(encoding="utf-8")
+    except OSError:
+        return ""
 
 
 def _write(args, rows: list[Row], machine: list[str], series) -> None:

@@ -3,29 +3,29 @@
 A is symmetric positive definite. Each solve runs preconditioned conjugate gradients on the
 current A with a preconditioner built for an earlier diagonal d0 and kept:
 
-* ``"pardiso"``: a sparse Cholesky factorisation of K + diag(d0) by Intel MKL PARDISO (through
-  the ``pypardiso`` package's copy of the MKL runtime; x86-64 Linux and Windows). The fill-in
-  reducing ordering and symbolic analysis are done once (the pattern never changes); a rebuild
-  is a numeric refactorisation only. The default for 2D and 3D whenever MKL loads and the
-  factor fits in memory (PARDISO reports the memory it needs after the analysis).
+* ``"pardiso"``: a sparse Cholesky factorisation of K + diag(d0) by Intel MKL PARDISO (the
+  MKL runtime of the ``mkl`` wheel that ``pypardiso`` depends on; x86-64 Linux and Windows).
+  The fill-in reducing ordering and the symbolic analysis are done once (the pattern never
+  changes); a rebuild is a numeric refactorisation only. The default for 2D and 3D whenever
+  MKL loads and the factor fits in memory (PARDISO reports what it needs after the analysis).
 * ``"superlu"``: SciPy's SuperLU with a symmetric minimum-degree ordering (2D, and 3D up to
   `DIRECT_LIMIT_3D` unknowns), when PARDISO is not available.
 * ``"multigrid"``: a smoothed-aggregation algebraic multigrid V-cycle (pyamg): large 3D
   without PARDISO, or when the PARDISO factor would not fit in memory.
 
-While d = d0 the first preconditioner application already solves to round-off, so a solve
-costs one triangular-solve pair and a residual check. As d drifts away from d0 (other step
-sizes, other temperatures) conjugate gradients need more applications; the preconditioner is
-rebuilt once the applications beyond the first since the last build have cost about as much
-as a build (a kept factorisation pays while it is close). The cost of a build is counted in
-applications, never timed, so that the same case always takes the same path: for PARDISO it
-is worked out from the factorisation's operation count and the size of the factor, which
-the analysis reports.
+A solve asks for an accuracy (`SpdSolver.solve`, ``tolerance``), and stops as soon as it is
+met: a factorisation for d0 applied once, x0 = P^-1 b, has the error A^-1 (d0 - d) x0, which
+is bounded entry by entry without another solve (see `SpdSolver._pcg`), so while d stays near
+d0 most solves cost one triangular-solve pair. As d drifts away from d0 (other step sizes,
+other temperatures), conjugate gradients need more applications; the preconditioner is rebuilt
+once the applications beyond the first since the last build have cost about as much as a build
+(a kept factorisation pays while it is close). That cost is counted in applications, never
+timed, so that the same case always takes the same path: for PARDISO it is worked out from the
+factorisation's operation count and the size of the factor, which the analysis reports.
 
-PARDISO runs on as many threads as this process may use (its CPU affinity; fewer when
-``MKL_NUM_THREADS`` or ``OMP_NUM_THREADS`` asks for fewer), in MKL's conditional numerical
-reproducibility mode: with the same thread count, the same matrix always gives the same
-factor and the same solutions, bit for bit.
+PARDISO runs on one thread (the same results bit for bit from run to run), except for large
+3D systems, which use the cores this process may use (`solver_threads`; results then agree
+from run to run to round-off).
 """
 
 from __future__ import annotations
@@ -52,15 +52,18 @@ __all__ = [
 log = logging.getLogger(__name__)
 
 DIRECT_LIMIT_3D = 8000  # unknowns; above this in 3D, without PARDISO, use multigrid
-# One thread: the solves (most of the work) are bound by memory speed and gain little from a
-# second core; a second thread on a 2-core machine that other work also uses made the
-# factorisation and the solves slower, not faster; and on one thread PARDISO's results are the
-# same bit for bit from run to run (on two they differ at round-off unless MKL's reproducible
-# mode is on, which made each solve 5 to 15 times slower). Measured on 2D and 3D meshes of 30k
-# to 200k nodes.
-PARDISO_THREADS = 1
+# Threads. In 2D and for small 3D systems one thread: the factor's blocks are small, a second
+# thread gained nothing and on one thread PARDISO gives the same result bit for bit from run to
+# run. Large 3D factors (from PARALLEL_MIN_3D unknowns) run on every core this process may use:
+# on two cores the factorisation and the solves of a 200k-node part took 0.55 to 0.6 times as
+# long (2.6 s -> 1.5 s, 78 ms -> 45 ms) when the machine was otherwise idle, though up to 1.4
+# times as long when other work kept both cores busy. On several threads the results agree from
+# run to run to round-off only (about 1e-15 relative per solve); MKL's reproducible mode
+# removes that but made each solve 5 to 15 times slower.
+PARALLEL_MIN_3D = 50_000
 MEMORY_SHARE = 0.6  # the PARDISO factor may take this share of the available memory
 METHODS = ("pardiso", "superlu", "multigrid")
+_MAX_SCALING = 2.0  # the balance correction: |c| <= 1 but near fixed nodes
 
 
 # --- PARDISO ------------------------------------------------------------------------------------
@@ -117,13 +120,41 @@ def pardiso_available() -> bool:
     return _mkl() is not None
 
 
-def solver_threads() -> int:
-    """Threads PARDISO runs on: `PARDISO_THREADS`, never more than this process may use."""
+def solver_threads(n: int = PARALLEL_MIN_3D, dim: int = 3) -> int:
+    """Threads PARDISO runs on for n unknowns in `dim` dimensions: 1, or for large 3D systems
+    the cores this process may use (fewer when ``MKL_NUM_THREADS`` or ``OMP_NUM_THREADS``
+    asks for fewer)."""
+    if dim != 3 or n < PARALLEL_MIN_3D:
+        return 1
     try:
-        n = len(os.sched_getaffinity(0))
+        cores = len(os.sched_getaffinity(0))
     except (AttributeError, OSError):
-        n = os.cpu_count() or 1
-    return max(1, min(PARDISO_THREADS, n))
+        cores = os.cpu_count() or 1
+    for var in ("MKL_NUM_THREADS", "OMP_NUM_THREADS"):
+        text = os.environ.get(var, "").split(",")[0].strip()
+        if text.isdigit() and int(text) > 0:
+            cores = min(cores, int(text))
+    return max(1, cores)
+
+
+_IOMP: list = []  # [the Intel OpenMP runtime's kmp_set_blocktime, or None]
+
+
+def _no_spin() -> None:
+    """Let PARDISO's OpenMP threads sleep as soon as a call ends (Intel OpenMP spins for
+    200 ms by default, keeping a core busy that the rest of the march, or other work on the
+    machine, could use). Applies to the calling thread's team."""
+    if not _IOMP:
+        func = None
+        for name in ("libiomp5.so", "libiomp5md.dll", "libiomp5.dylib"):
+            try:
+                func = ctypes.CDLL(name).kmp_set_blocktime
+                break
+            except (OSError, AttributeError):
+                continue
+        _IOMP.append(func)
+    if _IOMP[0] is not None:
+        _IOMP[0](ctypes.c_int(0))
 
 
 class PardisoError(RuntimeError):
@@ -140,7 +171,8 @@ class PardisoFactor:
     Args:
         upper: the upper triangle (diagonal included) in CSR form with sorted indices; its
             pattern is fixed for the life of the factor, its values are those of `factor`.
-        threads: OpenMP threads for PARDISO (default `solver_threads()`).
+        threads: OpenMP threads for PARDISO (default 1; see `solver_threads`). Fixed at the
+            analysis: every later phase runs on the same number.
 
     After construction the symbolic analysis is done and `memory_bytes`, `factor_nonzeros`
     and `factor_mflop` are known; `factor(values)` then does the numeric factorisation.
@@ -160,7 +192,7 @@ class PardisoFactor:
         self._ia = np.ascontiguousarray(upper.indptr, dtype=np.int32)
         self._ja = np.ascontiguousarray(upper.indices, dtype=np.int32)
         self._a = np.ascontiguousarray(upper.data, dtype=np.float64).copy()
-        self.threads = threads or solver_threads()
+        self.threads = max(1, int(threads or 1))
         self._pt = np.zeros(64, dtype=np.int64)  # PARDISO's internal handle
         ip = np.zeros(64, dtype=np.int32)
         ip[0] = 1  # values below are set, not defaults
@@ -185,6 +217,8 @@ class PardisoFactor:
         err = i32(0)
         lib = self._lib
         old = lib.MKL_Set_Num_Threads_Local(c.c_int(self.threads))
+        if self.threads > 1:
+            _no_spin()
         try:
             lib.pardiso(
                 c.c_void_p(self._pt.ctypes.data),
@@ -326,6 +360,7 @@ class SpdSolver:
         self._stale = False  # the preconditioner has drifted: rebuild at the next new d
         self._last_d = None
         self._d0 = None  # the diagonal the factorisation was built for
+        self._pending = None  # the diagonal to rebuild for after a restore
         self.last_error = 0.0
         if method == "pardiso" and not pardiso_available():
             self._fall_back("PARDISO is not available")
@@ -337,8 +372,8 @@ class SpdSolver:
         self.note = why
         log.info("%s; using %s", why, self.method)
 
-    def _pardiso_setup(self) -> bool:
-        """Pattern, analysis and memory check; False (after falling back) when it won't do."""
+    def _pardiso_setup(self) -> None:
+        """Pattern, analysis and memory check; falls back when the factor would not fit."""
         n = self.k.shape[0]
         # the upper triangle of K with every diagonal entry present (explicit zeros kept)
         tri = sp.triu(self.k, format="coo")
@@ -356,10 +391,10 @@ class SpdSolver:
         diag_pos = np.flatnonzero(rows == upper.indices)
         values = upper.data.copy()
         try:
-            factor = PardisoFactor(upper)
+            factor = PardisoFactor(upper, solver_threads(n, self.dim))
         except (RuntimeError, OSError) as exc:
             self._fall_back(f"PARDISO analysis failed ({exc})")
-            return False
+            return
         limit = self.memory_limit
         if limit is None:
             from .resources import available_memory
@@ -373,14 +408,20 @@ class SpdSolver:
                 f"the PARDISO factor would need {need / 1e9:.3g} GB, more than the "
                 f"{limit / 1e9:.3g} GB allowed"
             )
-            return False
+            return
         self._pardiso = factor
         self._values = values
         self._diag_pos = diag_pos
         self._build_cost = factor.build_cost()
-        return True
 
     def _build(self, d: np.ndarray) -> None:
+        """Build the preconditioner for K + diag(d).
+
+        Raises:
+            numpy.linalg.LinAlgError: the matrix is not positive definite (the next solve
+                tries again).
+        """
+        self._apply = None
         if self.method == "pardiso" and self._pardiso is None:
             self._pardiso_setup()
         if self.method == "pardiso":
@@ -392,12 +433,15 @@ class SpdSolver:
             from scipy.sparse.linalg import splu
 
             a = (self.k + sp.diags(d)).tocsc()
-            lu = splu(
-                a,
-                permc_spec="MMD_AT_PLUS_A",
-                diag_pivot_thresh=0.0,
-                options={"SymmetricMode": True},
-            )
+            try:
+                lu = splu(
+                    a,
+                    permc_spec="MMD_AT_PLUS_A",
+                    diag_pivot_thresh=0.0,
+                    options={"SymmetricMode": True},
+                )
+            except RuntimeError as exc:  # exactly singular
+                raise np.linalg.LinAlgError(str(exc)) from None
             self._apply = lu.solve
         else:
             import pyamg
@@ -409,42 +453,102 @@ class SpdSolver:
             prec = ml.aspreconditioner(cycle="V")
             self._apply = prec.matvec
         self.stats.builds += 1
-        self._d0 = None if self.method == "multigrid" else d.copy()  # exact inverse for d0
+        self._d0 = d.copy()
         self._excess = 0
         self._stale = False
+        self._pending = None
 
     def invalidate(self) -> None:
         """Force a rebuild of the preconditioner at the next solve."""
         self._apply = None
+        self._pending = None
+
+    def state(self) -> dict:
+        """What a later `restore` needs to continue with the same preconditioner: the
+        diagonal it was built for and the drift counters (plain values, for a checkpoint)."""
+        return {
+            "diagonal": None if self._d0 is None else self._d0.copy(),
+            "excess": int(self._excess),
+            "stale": bool(self._stale),
+        }
+
+    def restore(self, state: dict) -> None:
+        """Continue from `state()`: the preconditioner is rebuilt for the same diagonal at the
+        next solve (unless it was due for a rebuild anyway), so the solves, and the run, go
+        on exactly as they would have."""
+        d0 = state.get("diagonal")
+        self._pending = None if d0 is None else np.asarray(d0, dtype=float).copy()
+        self._apply = None
+        self._excess = int(state.get("excess", 0))
+        self._stale = bool(state.get("stale", False))
 
     # -- solving -------------------------------------------------------------------------------
     def _pcg(self, d, b, maxiter, weights, allowed):
-        """Preconditioned CG from x0 = P^-1 b.
+        """Preconditioned CG from x0 = P^-1 b, with two cheap corrections of x0.
 
-        Returns (x, applications of P, converged, estimated error). Converged: the residual is
-        below `rtol` times b, or (with `allowed`, a function of max |weights * x| giving the
-        weighted error allowed) the estimated weighted error is within it.
+        Returns (x, applications of P, converged, estimated error). Converged: with `allowed`
+        (a function of max |weights * x| giving the weighted error allowed), the estimated
+        weighted error is within it (or the residual is at round-off); without, the residual
+        is below `rtol` times b.
 
-        The error of x0 is bounded without another application: r = b - A x0 = (d0 - d) x0
-        exactly (P x0 = b), and A being an M-matrix with A 1 >= d (K with no positive
-        off-diagonal entries and row sums >= 0, as for P1 elements on Delaunay meshes),
-        |A^-1 r| <= max |r / d| at every entry. Later errors are estimated by z = P^-1 r,
-        and x + z is returned.
+        * The error of x0 is bounded without another application: r = b - A x0 = (d0 - d) x0
+          exactly (P x0 = b), and A being an M-matrix with A 1 >= d (K with no positive
+          off-diagonal entries and row sums >= 0, as for P1 elements on Delaunay meshes),
+          |A^-1 r| <= max |r / d| at every entry.
+        * x0 is first scaled by the best factor in the A-norm, 1 + x0.r / x0.A x0 (A x0 =
+          b - r: no product needed), when that factor is between 0.5 and 2 (every sign
+          kept). A drift of d by a common factor s where d dominates (a change of step size,
+          a part heating evenly) leaves the error of x0 mostly along x0: the answer there is
+          x0 / s.
+        * Every x returned is then corrected to x + c |r| / d, c = sum(r) / sum(A |r| / d),
+          so that its residual sums to zero: that sum is the balance of heat of the
+          correction, which the storage and face terms then keep as an exact solve would
+          (K's columns sum to zero away from fixed nodes). |c| <= 1 there (sum(A |r| / d)
+          >= sum |r|), so no entry moves by more than the bound on its error above, and
+          entries without residual stay as they are (no new under- or overshoot). One
+          product with K.
+        * Later errors are estimated by z = P^-1 r, and x + z (corrected) is returned.
+
+        Both corrections are left out without `allowed`: the solve then is a fixed linear
+        map, as GMRES needs of a preconditioner.
         """
         bnorm = float(np.linalg.norm(b))
         if bnorm == 0.0:
             return np.zeros_like(b), 0, True, 0.0
-        tol = self.rtol * bnorm
+        # with a tolerance asked for, the residual only stops at round-off
+        tol = (self.rtol if allowed is None else 1e-13) * bnorm
         apply, k = self._apply, self.k
+        positive = float(d.min()) > 0.0
+
+        def balanced(x, r):
+            """x + c |r| / d with its residual summing to zero (see above); r with it."""
+            if allowed is None or not positive:
+                return x, r
+            v = np.abs(r) / d
+            av = k @ v + d * v
+            net = float(av.sum())
+            c = float(r.sum()) / net if net > 0.0 else math.inf
+            if abs(c) > _MAX_SCALING:
+                return x, r
+            return x + c * v, r - c * av
+
         x = apply(b)
-        exact = self._d0 is not None
+        exact = self.method != "multigrid"  # P = K + diag(d0) exactly
         if exact:
             r = (self._d0 - d) * x
         else:
             r = b - (k @ x + d * x)
         if allowed is not None:
+            ax = b - r  # A x0
+            xax = float(x @ ax)
+            if xax > 0.0:
+                c = float(x @ r) / xax
+                if -0.5 <= c <= 1.0:
+                    x, r = x * (1.0 + c), r - c * ax
+        x, r = balanced(x, r)
+        if allowed is not None:
             wmax = float(np.max(weights))
-            if exact and float(d.min()) > 0.0:
+            if exact and positive:
                 bound = wmax * float(np.max(np.abs(r) / d))
                 if bound <= allowed(float(np.max(np.abs(weights * x)))):
                     return x, 1, True, bound
@@ -457,10 +561,14 @@ class SpdSolver:
         if exact and float(self._d0.min()) > 0.0:
             q = float(np.max(np.abs(1.0 - d / self._d0)))
             shrink = min(1.0, q / (1.0 - q)) if q < 1.0 else 1.0
+
+        def corrected(x, r, z):
+            return balanced(x + z, r - (k @ z + d * z))[0]
+
         if allowed is not None:
             err = float(np.max(np.abs(weights * z)))
             if err <= allowed(float(np.max(np.abs(weights * x)))):
-                return x + z, uses, True, err * shrink
+                return corrected(x, r, z), uses, True, err * shrink
         p = z.copy()
         rz = float(r @ z)
         while True:
@@ -469,7 +577,7 @@ class SpdSolver:
             x += alpha * p
             r -= alpha * ap
             if float(np.linalg.norm(r)) <= tol:
-                return x, uses, True, 0.0
+                return balanced(x, r)[0], uses, True, 0.0
             if uses >= maxiter:
                 return x, uses, False, math.inf
             z = apply(r)
@@ -477,7 +585,7 @@ class SpdSolver:
             if allowed is not None:
                 err = float(np.max(np.abs(weights * z)))
                 if err <= allowed(float(np.max(np.abs(weights * x)))):
-                    return x + z, uses, True, err * shrink
+                    return corrected(x, r, z), uses, True, err * shrink
             rz_new = float(r @ z)
             p = z + (rz_new / rz) * p
             rz = rz_new
@@ -519,7 +627,11 @@ class SpdSolver:
         if tolerance is not None:
             allowed = tolerance if callable(tolerance) else (lambda _x, t=float(tolerance): t)
             weights = np.ones_like(b) if weights is None else np.asarray(weights, dtype=float)
-        if self._apply is None or (self._stale and d is not self._last_d):
+        if self._apply is None and self._pending is not None and not self._stale:
+            excess, pending = self._excess, self._pending
+            self._build(pending)  # as before a restore
+            self._excess, self._pending = excess, None
+        elif self._apply is None or (self._stale and d is not self._last_d):
             self._build(d)
         self._last_d = d
         x, uses, ok, err = self._pcg(d, b, 200, weights, allowed)

@@ -218,7 +218,8 @@ def run(args, console) -> int:
         files.fail("interrupted", "stopped by the user")
         raise
     _write_results(files, result, str(args.plan))
-    console.print(f"  designed program ({len(result.evaluations)} runs, {result.message}):")
+    message = result.message[:1].lower() + result.message[1:].rstrip(".")
+    console.print(f"  designed program ({len(result.evaluations)} runs; search: {message}):")
     for line in program_lines(result.program):
         console.print(f"    {line}", markup=False)
     ref = result.reference

@@ -242,6 +242,13 @@ class SettleWatch:
                 decays.append(math.log(ra / rb) / (tb - ta))
             else:
                 slow, fast = min(decays), max(decays)
-                if fast < 1.5 * slow and step.t1 - self.last_change > 3.0 / slow:
+                # the four rates must span a decay time: a short stretch of slowing (nodes
+                # nearing a peak of c(T)) is no settling
+                span_s = self._rates[-1][0] - self._rates[0][0]
+                if (
+                    fast < 1.5 * slow
+                    and step.t1 - self.last_change > 3.0 / slow
+                    and span_s >= 1.0 / slow
+                ):
                     self.remaining_K = r / slow
         self.settled = self.remaining_K < 1e-6 * self.span
