@@ -8,15 +8,18 @@ process):
 * Memory. The peak resident memory (Linux VmHWM) rose by 2.2 to 3.5 kB per added node in 2D
   (6 k to 107 k nodes) and by 5.1 to 8.9 kB per node in 3D (2 k to 55 k nodes; the 3D direct
   solver, used up to 8000 unknowns, is the costly end), over about 115 MB for the interpreter
-  and the libraries. Taken here: 150 MB + 4 kB (2D) or 8 kB (3D) per node. Available memory
+  and the libraries; with the PARDISO factorisation the benchmark solids took 6.5 kB (194 k
+  nodes) and 8.5 kB (873 k nodes) per node. Taken here: 150 MB + 4 kB (2D) or 9 kB (3D) per
+  node. Available memory
   comes from psutil when it is installed, else from ``MemAvailable`` in /proc/meminfo; where
   neither tells, nothing is refused.
 * Time. Accepted steps at the default tolerance (2e-5) numbered 30 to 170 over the
   verification cases and the demo; steps grow about as tolerance^(-1/3) (a second-order
   method: local error ~ h^3), by one per schedule corner, and to at least the run time over
-  ``solver.max_step``. A step cost 8 to 17 us per node in 2D and 13 to 48 us per node in 3D
-  (the high end for the 3D direct solver below 8000 unknowns, where runs are short anyway);
-  taken here: 10 (2D) or 15 (3D) us per node, times (nodes / 20000)^0.3 above 20000 nodes
+  ``solver.max_step``. With the PARDISO path (``python -m femheat.bench --scaling``) an
+  accepted step cost 1.2 to 2.2 us per node in 2D (7 k to 103 k nodes) and 4.1 to 6.5 us per
+  node in 3D (16 k to 194 k nodes; 12.8 us at 873 k); taken here: 2 us x (nodes / 20000)^0.15
+  (2D) and 4.5 us x (nodes / 100000)^0.4 (3D) per node, the powers only above those counts
   (the solves grow faster than the node count).
 """
 
@@ -43,8 +46,10 @@ __all__ = [
 log = logging.getLogger(__name__)
 
 BASE_BYTES = 150e6
-BYTES_PER_NODE = {2: 4e3, 3: 8e3}
-SECONDS_PER_NODE_STEP = {2: 10e-6, 3: 15e-6}
+BYTES_PER_NODE = {2: 4e3, 3: 9e3}
+SECONDS_PER_NODE_STEP = {2: 2e-6, 3: 4.5e-6}
+# (nodes above which a step costs more than in proportion, power of the excess)
+_STEP_GROWTH = {2: (2e4, 0.15), 3: (1e5, 0.4)}
 STEPS_AT_DEFAULT = 150  # accepted steps at the default tolerance (upper part of 30..170)
 DEFAULT_TOLERANCE = 2e-5
 LONG_RUN_S = 3600.0  # warn above this estimated run time
@@ -175,5 +180,6 @@ def estimate_run(nodes: int, dim: int, settings) -> RunEstimate:
         if settings.max_step and duration and duration / settings.max_step > steps:
             steps, limited = duration / settings.max_step, "max_step"
     steps = max(steps, 1.0)
-    step_s = SECONDS_PER_NODE_STEP[dim] * nodes * max(1.0, nodes / 2e4) ** 0.3
+    above, power = _STEP_GROWTH[dim]
+    step_s = SECONDS_PER_NODE_STEP[dim] * nodes * max(1.0, nodes / above) ** power
     return RunEstimate(memory_needed(nodes, dim), steps, step_s, steps * step_s, limited)
