@@ -224,9 +224,12 @@ def _check(case, console) -> int:
     problem = build_problem(case)
     m = problem.mesh
     console.print(f"[bold]{problem.title or 'case'}[/bold]: the case file is valid")
+    given = {k: v for k, v in problem.params.items() if v is not None}
+    element = problem.model.element
     console.print(
-        f"  {problem.part_model} {problem.shape} {problem.params}; mesh {m.nodes} nodes, "
-        f"{m.cells.shape[0]} cells, smallest quality {m.quality().min():.2f}"
+        f"  {problem.part_model} {problem.shape} {given}; mesh {m.nodes} nodes "
+        f"({element}), {problem.model.geometry.cells.shape[0]} elements, smallest quality "
+        f"{problem.model.geometry.quality().min():.2f}"
     )
     for g in problem.model.faces:
         label = problem.face_labels.get(g.name, "")

@@ -503,7 +503,9 @@ def _mpl_save(fig, path: Path) -> Path:
 def _mpl_faces(path, mesh: PartMesh, axes, title: str, labels=None) -> Path:
     from matplotlib.collections import LineCollection
 
-    fig, ax, _cax, _wide = _mpl_layout(mesh, colourbar=False)
+    fig, ax, _cax, wide = _mpl_layout(mesh, colourbar=False)
+    if not wide:
+        ax.set_position((0.08, 0.08, 0.6, 0.83))  # room for the legend on the right
     xy = 1000.0 * mesh.points
     ax.triplot(xy[:, 0], xy[:, 1], mesh.cells, color="#a0a0a0", lw=0.4)
     for i, n in enumerate(mesh.face_names):
@@ -511,7 +513,12 @@ def _mpl_faces(path, mesh: PartMesh, axes, title: str, labels=None) -> Path:
         label = (labels or {}).get(n, n)
         ax.add_collection(LineCollection(xy[mesh.faces[n]], colors=colour, linewidths=4,
                                          label=label))  # fmt: skip
-    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), frameon=False, title="faces")
+    if wide:  # legend under the section, in columns
+        ncol = min(4, max(1, len(mesh.face_names)))
+        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.14), frameon=False,
+                  title="faces", ncol=ncol)  # fmt: skip
+    else:
+        ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), frameon=False, title="faces")
     ax.set_xlabel(f"{axes[0]} (mm)")
     ax.set_ylabel(f"{axes[1]} (mm)")
     for side in ("top", "right"):
