@@ -33,13 +33,19 @@ def run(args, console) -> int:
     out = Path(args.out) if args.out else Path(f"{Path(args.case).stem}_mesh")
     _writable(out)
     problem = build_problem(case)
-    mesh = problem.mesh
+    mesh = problem.model.geometry  # for P2 the elements, not their split node mesh
     fig = mesh_figures(mesh)
     console.print(f"[bold]{problem.title or 'case'}[/bold]: {problem.part_model} {problem.shape}")
     console.print(
         f"  mesh: {fig['nodes']:,} nodes, {fig['cells']:,} {_PLURAL[fig['element']]}, "
         f"element size {1000 * fig['size_m']:.3g} mm"
     )
+    if problem.model.element == "P2":
+        edges = "on the geometry" if mesh.curved_edges is not None else "at edge midpoints"
+        console.print(
+            f"  second-order (P2) elements, edge nodes {edges}: {problem.mesh.nodes:,} nodes "
+            "in all"
+        )
     console.print(f"  smallest element quality: {fig['min_quality']:.3f} (1 = equilateral)")
     console.print(
         f"  element angles ({fig['angle_kind']}): {fig['min_angle_deg']:.1f} to "

@@ -279,3 +279,25 @@ def test_p2_checkpoint_resumes_on_the_same_curved_mesh(tmp_path):
     np.testing.assert_array_equal(problem2.mesh.points, problem.mesh.points)
     second = run_problem(problem2, resume=ckpt.run)
     assert second.target.time == pytest.approx(reference.target.time, rel=1e-6)
+
+
+def test_mesh_command_reports_the_elements_and_all_p2_nodes(tmp_path, capsys):
+    """`femheat mesh` on a P2 case counts the elements and names the node total; the counts
+    satisfy Euler's relation for a triangulated disc (nodes = corners + edges)."""
+    from femheat.cli import main
+
+    text = (
+        'title = "P2 plate"\n[part]\nmodel = "planar"\nshape = "rectangle"\n'
+        "size = [0.05, 0.01]\n[material]\ndensity = 7800\nconductivity = 40\n"
+        "specific_heat = 460\n[furnace]\ntemperature = 900\nhtc = 250\nemissivity = 0\n"
+        '[initial]\ntemperature = 20\n[target]\ntemperature = 880\n[mesh]\nelement = "P2"\n'
+    )
+    path = tmp_path / "p2.toml"
+    path.write_text(text)
+    assert main(["mesh", str(path), "--out", str(tmp_path / "m")]) == 0
+    out = capsys.readouterr().out
+    corners = int(out.split("mesh: ")[1].split(" nodes")[0].replace(",", ""))
+    cells = int(out.split(" nodes, ")[1].split(" triangles")[0].replace(",", ""))
+    total = int(out.split("on the geometry: ")[1].split(" nodes")[0].replace(",", ""))
+    assert total == corners + (corners + cells - 1)
+    assert (tmp_path / "m" / "mesh.png").exists()
