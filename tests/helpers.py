@@ -24,6 +24,25 @@ BASE = {
 }
 
 
+def slab_toml(
+    title: str = "test slab",
+    height: float = 0.005,
+    emissivity: float = 0.0,
+    initial: str = "temperature = 20",
+    tail: str = "[target]\ntemperature = 880\n",
+) -> str:
+    """The base slab (`BASE`) as case-file text: half-thickness 0.05 m, mid-plane xmin,
+    convection (and radiation when `emissivity` > 0) on xmax; `tail` adds sections."""
+    return (
+        f'title = "{title}"\n[part]\nmodel = "planar"\nshape = "rectangle"\n'
+        f"size = [0.05, {height}]\n[material]\ndensity = 7800\nconductivity = 40\n"
+        f"specific_heat = 460\n[furnace]\ntemperature = 900\nhtc = 250\n"
+        f"emissivity = {emissivity}\n"
+        '[faces.xmin]\ncondition = "symmetry"\n[faces.ymin]\ncondition = "insulated"\n'
+        f'[faces.ymax]\ncondition = "insulated"\n[initial]\n{initial}\n{tail}'
+    )
+
+
 def make_case(**changes):
     """The base slab case with top-level sections replaced or updated (dicts merge one level)."""
     data = copy.deepcopy(BASE)

@@ -10,37 +10,15 @@ import pytest
 from femheat import bench, exact
 from femheat.bench import Row, Spec, fit_exponent, results_text, run_case
 
+from .helpers import slab_toml
+
 # The plane wall of validation/cases/slab_series.toml, outputs off: half-thickness 0.05 m,
 # mid-plane xmin, convection only on xmax.
-SLAB = """
-title = "bench harness test: slab"
-[part]
-model = "planar"
-shape = "rectangle"
-size = [0.05, 0.005]
-[material]
-density = 7800
-conductivity = 40
-specific_heat = 460
-[furnace]
-temperature = 900
-htc = 250
-emissivity = 0
-[faces.xmin]
-condition = "symmetry"
-[faces.ymin]
-condition = "insulated"
-[faces.ymax]
-condition = "insulated"
-[initial]
-temperature = 20
-[target]
-temperature = 880
-[output]
-fields = false
-pictures = false
-report = false
-"""
+SLAB = slab_toml(
+    "bench harness test: slab",
+    tail="[target]\ntemperature = 880\n"
+    "[output]\nfields = false\npictures = false\nreport = false\n",
+)
 
 
 def test_one_case_in_a_fresh_process(tmp_path):

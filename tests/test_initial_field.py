@@ -18,36 +18,14 @@ from femheat.output.vtk import write_series
 from femheat.problem import build_problem
 from femheat.run import run_problem
 
-from .helpers import structured_rectangle
+from .helpers import slab_toml, structured_rectangle
 
 K, RHO, C, H = 40.0, 7800.0, 460.0, 250.0  # W/(m K), kg/m3, J/(kg K), W/(m2 K)
 L = 0.05
 
-CASE = """
-[part]
-model = "planar"
-shape = "rectangle"
-size = [0.05, 0.005]
-[material]
-density = 7800
-conductivity = 40
-specific_heat = 460
-[furnace]
-temperature = 900
-htc = 250
-emissivity = 0
-[faces.xmin]
-condition = "symmetry"
-[faces.ymin]
-condition = "insulated"
-[faces.ymax]
-condition = "insulated"
-[initial]
-{initial}
-[solver]
-end_time = {end}
-tolerance = 1e-6
-"""
+def case_text(initial: str, end: float) -> str:
+    """The base slab with a starting field and an end time instead of a target."""
+    return slab_toml(initial=initial, tail=f"[solver]\nend_time = {end}\ntolerance = 1e-6\n")
 
 
 def _save_final(folder, mesh, result):
@@ -80,11 +58,11 @@ def test_continued_run_matches_the_exact_series(tmp_path):
     Bi = hL/k = 0.3125), and the second run balances its own energy from the loaded field."""
     mesh = structured_rectangle(L, L / 10, 25, 1)
     first_dir = tmp_path / "first"
-    (tmp_path / "first.toml").write_text(CASE.format(initial="temperature = 20", end=1500))
+    (tmp_path / "first.toml").write_text(case_text(initial="temperature = 20", end=1500))
     first = run_problem(build_problem(load_case(tmp_path / "first.toml"), mesh=mesh))
     _save_final(first_dir, mesh, first)
 
-    (tmp_path / "second.toml").write_text(CASE.format(initial='from_run = "first"', end=1500))
+    (tmp_path / "second.toml").write_text(case_text(initial='from_run = "first"', end=1500))
     problem = build_problem(load_case(tmp_path / "second.toml"), mesh=mesh)
     assert np.array_equal(problem.initial, first.final)
     assert problem.initial_c == pytest.approx(problem.model.mean_temperature(first.final))
@@ -107,7 +85,7 @@ def test_field_from_a_vtk_file_on_another_mesh(tmp_path):
         tmp_path / "start.vtu",
         meshio.Mesh(points, [("triangle", coarse.cells)], point_data={"T_C": field}),
     )
-    text = CASE.format(initial='from_file = "start.vtu"\nfield = "T_C"', end=600)
+    text = case_text(initial='from_file = "start.vtu"\nfield = "T_C"', end=600)
     text = text.replace("temperature = 900", "temperature = 20") + "[target]\ntemperature = 700\n"
     (tmp_path / "cool.toml").write_text(text)
     fine = structured_rectangle(L, L / 10, 25, 1)
@@ -133,7 +111,7 @@ def test_bad_sources_name_the_place(tmp_path, initial, where, says):
         tmp_path / "start.vtu",
         meshio.Mesh(points, [("triangle", mesh.cells)], point_data={"T_C": np.ones(mesh.nodes)}),
     )
-    (tmp_path / "case.toml").write_text(CASE.format(initial=initial, end=60))
+    (tmp_path / "case.toml").write_text(case_text(initial=initial, end=60))
     with pytest.raises(CaseError) as info:
         build_problem(load_case(tmp_path / "case.toml"), mesh=mesh)
     assert info.value.where == where and says in str(info.value)

@@ -17,35 +17,16 @@ import pytest
 from femheat.study.runner import run_study
 from femheat.study.spec import load_study
 
+from .helpers import slab_toml
+
 distributed = pytest.importorskip("distributed")
 
-SLAB = """
-title = "Slab for the Dask test"
-[part]
-model = "planar"
-shape = "rectangle"
-size = [0.05, 0.004]
-[material]
-density = 7800
-conductivity = 40
-specific_heat = 460
-[furnace]
-temperature = 900
-htc = 250
-emissivity = 0.6
-[faces.xmin]
-condition = "symmetry"
-[faces.ymin]
-condition = "insulated"
-[faces.ymax]
-condition = "insulated"
-[initial]
-temperature = 20
-[target]
-temperature = 880
-[mesh]
-size = 0.002
-"""
+SLAB = slab_toml(
+    "Slab for the Dask test",
+    height=0.004,
+    emissivity=0.6,
+    tail="[target]\ntemperature = 880\n[mesh]\nsize = 0.002\n",
+)
 
 STUDY = """
 [study]

@@ -21,36 +21,16 @@ from femheat.exact import fourier_at
 from femheat.study.runner import run_study
 from femheat.study.spec import get_path, load_study, parse_study
 
+from .helpers import slab_toml
+
 # Plane wall, constant properties, convection only; the rectangle's other three faces are
 # insulated, so the mid-plane (face xmin) is the slab's centre. Coarse mesh (the time at the
 # mid-plane converges fast in the 1D direction; checked below against the series).
-SLAB = """
-title = "Slab for the sweep test"
-[part]
-model = "planar"
-shape = "rectangle"
-size = [0.05, 0.004]
-[material]
-density = 7800
-conductivity = 40
-specific_heat = 460
-[furnace]
-temperature = 900
-htc = 250
-emissivity = 0
-[faces.xmin]
-condition = "symmetry"
-[faces.ymin]
-condition = "insulated"
-[faces.ymax]
-condition = "insulated"
-[initial]
-temperature = 20
-[target]
-temperature = 880
-[mesh]
-size = 0.004
-"""
+SLAB = slab_toml(
+    "Slab for the sweep test",
+    height=0.004,
+    tail="[target]\ntemperature = 880\n[mesh]\nsize = 0.004\n",
+)
 
 STUDY = """
 title = "slab grid"
