@@ -33,6 +33,7 @@ from .estimates import (
     RunEstimates,
     estimate_body,
 )
+from .units import hours_minutes
 
 __all__ = ["add_parser", "conditions_from", "body_lines", "run_lines", "run"]
 
@@ -259,8 +260,7 @@ def _check_reachable(values: dict) -> None:
 def _h_min(seconds: float | None) -> str:
     if seconds is None or not math.isfinite(seconds):
         return "--"
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d} h:min ({seconds:.0f} s)"
+    return f"{hours_minutes(seconds)} h:min ({seconds:.0f} s)"
 
 
 def _table(headers: list[str], rows: list[list[str]], indent: str) -> list[str]:

@@ -66,6 +66,7 @@ import numpy as np
 from . import exact
 from .furnace import Contact, Exposure
 from .part_lengths import PartLengths, box_sides, crosses, exposed_faces, part_lengths
+from .units import hours_minutes
 
 if TYPE_CHECKING:  # pragma: no cover
     from .run import RunResult
@@ -925,10 +926,7 @@ def _num(x):
 
 
 def _h_min(seconds: float | None) -> str | None:
-    if seconds is None or not math.isfinite(seconds):
-        return None
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds)
 
 
 def _estimate_dict(e: Estimate) -> dict:

@@ -40,7 +40,7 @@ from .furnace import (
 from .materials import Material
 from .mesh import PartMesh
 
-__all__ = ["FaceGroup", "Model", "build_model"]
+__all__ = ["FaceGroup", "Model", "build_model", "weighted_forms"]
 
 
 @dataclass(frozen=True)
@@ -57,23 +57,35 @@ class FaceGroup:
         return float(self.weights.sum())
 
 
-def _stiffness_and_volumes(mesh: PartMesh):
-    from skfem import Basis, BilinearForm, ElementTetP1, ElementTriP1, LinearForm, asm
+def weighted_forms(axisymmetric: bool):
+    """scikit-fem forms with the weight w (1, or 2 pi r for a body of revolution):
+    conduction int grad u . grad v w, capacity int u v w, volume int v w."""
+    from skfem import BilinearForm, LinearForm
     from skfem.helpers import dot, grad
 
-    axisym = mesh.axisymmetric
-
     def weight(w):
-        return 2.0 * np.pi * w.x[0] if axisym else 1.0
+        return 2.0 * np.pi * w.x[0] if axisymmetric else 1.0
 
     @BilinearForm
     def conduction(u, v, w):
         return dot(grad(u), grad(v)) * weight(w)
 
+    @BilinearForm
+    def capacity(u, v, w):
+        return u * v * weight(w)
+
     @LinearForm
     def volume(v, w):
         return v * weight(w)
 
+    return conduction, capacity, volume
+
+
+def _stiffness_and_volumes(mesh: PartMesh):
+    from skfem import Basis, ElementTetP1, ElementTriP1, asm
+
+    axisym = mesh.axisymmetric
+    conduction, _, volume = weighted_forms(axisym)
     elem = ElementTriP1() if mesh.dim == 2 else ElementTetP1()
     basis = Basis(mesh.skfem(), elem, intorder=2 if axisym else 1)
     stiffness = asm(conduction, basis).tocsr()

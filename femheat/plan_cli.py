@@ -122,19 +122,6 @@ def _cell(value) -> str:
     return buf.getvalue()
 
 
-def _progress(console):
-    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TimeElapsedColumn
-
-    return Progress(
-        "[progress.description]{task.description}",
-        BarColumn(),
-        MofNCompleteColumn(),
-        TimeElapsedColumn(),
-        console=console,
-        transient=True,
-    )
-
-
 def _write_results(files: _Files, result, plan_file: str) -> None:
     from .output.files import atomic_write_text
     from .output.plots import save_figure
@@ -187,7 +174,9 @@ def run(args, console) -> int:
     )
     say(f"  [dim]{RULE_NOTE}[/dim]")
     files = _Files(out, plan, str(args.plan))
-    bar = _progress(console)
+    from .output.progress import task_bar
+
+    bar = task_bar(console, transient=True)
     task = bar.add_task("search runs", total=runs, visible=not args.quiet)
 
     def on_evaluation(e) -> None:

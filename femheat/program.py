@@ -29,6 +29,7 @@ import numpy as np
 
 from .errors import CaseError
 from .furnace import Schedule
+from .units import hours_minutes
 
 __all__ = [
     "ScheduleReader",
@@ -44,8 +45,7 @@ _FAST = 0.5  # K/s: a bare-number rate above this (1800 K/h) was probably meant 
 
 
 def _hm(seconds: float) -> str:
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds)
 
 
 def allowed_rate(rate: float, limit, thickness: float) -> float:

@@ -161,8 +161,9 @@ class QuadraticSpace:
     """
 
     def __init__(self, mesh: PartMesh):
-        from skfem import Basis, BilinearForm, ElementTetP2, ElementTriP2, asm
-        from skfem.helpers import dot, grad
+        from skfem import Basis, ElementTetP2, ElementTriP2, asm
+
+        from .model import weighted_forms
 
         self.geometry = mesh
         dim = mesh.dim
@@ -172,41 +173,28 @@ class QuadraticSpace:
         # exact for the consistent diagonal: P2 x P2 (x r when axisymmetric)
         order = 5 if axisym else 4
         basis = Basis(m, elem, intorder=order)
+        dofs = basis.element_dofs  # (nloc, E): corners first, then edge midpoints
+        if not np.array_equal(dofs[: dim + 1], m.t):
+            raise RuntimeError("unexpected P2 node numbering in scikit-fem")
+        self._edge = self._edge_index(m.t, dofs, basis.N, dim)
         self.curved = mesh.curved_edges is not None
         if self.curved:
             # isoparametric elements: edge nodes where gmsh put them, on the curved geometry
             from skfem import MeshTet2, MeshTri2
 
-            dofs = basis.element_dofs
-            index = self._edge_index(m.t, dofs, basis.N, dim)
             doflocs = basis.doflocs.copy()
             corners, where = mesh.curved_edges
-            doflocs[:, index(corners[:, 0], corners[:, 1])] = where.T
+            doflocs[:, self._edge(corners[:, 0], corners[:, 1])] = where.T
             cls = MeshTri2 if dim == 2 else MeshTet2
             curved = cls(np.ascontiguousarray(doflocs), np.ascontiguousarray(dofs))
             basis = Basis(curved, elem, intorder=order)
             if not np.array_equal(basis.element_dofs, dofs):
                 raise RuntimeError("unexpected P2 node numbering of the curved mesh")
 
-        def weight(w):
-            return 2.0 * np.pi * w.x[0] if axisym else 1.0
-
-        @BilinearForm
-        def conduction(u, v, w):
-            return dot(grad(u), grad(v)) * weight(w)
-
-        @BilinearForm
-        def capacity(u, v, w):
-            return u * v * weight(w)
-
+        conduction, capacity, _ = weighted_forms(axisym)
         self.stiffness = asm(conduction, basis).tocsr()
         self.capacity = asm(capacity, basis).tocsr()
         self.volumes = self._lumped_volumes(basis, axisym)
-
-        dofs = basis.element_dofs  # (nloc, E): corners first, then edge midpoints
-        self._edge = self._edge_index(m.t, dofs, basis.N, dim)
-        if not np.array_equal(dofs[: dim + 1], m.t):
-            raise RuntimeError("unexpected P2 node numbering in scikit-fem")
 
         points = basis.doflocs.T.copy()
         split = np.array(_SPLIT[dim])  # (k, dim+1)

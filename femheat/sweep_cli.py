@@ -35,19 +35,6 @@ def add_parser(sub) -> None:
     p.add_argument("--retries", type=int, default=2, help="re-runs of a task that raised")
 
 
-def _progress(console):
-    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TimeElapsedColumn
-
-    return Progress(
-        "[progress.description]{task.description}",
-        BarColumn(),
-        MofNCompleteColumn(),
-        TimeElapsedColumn(),
-        console=console,
-        transient=False,
-    )
-
-
 def _quiet_dask() -> None:
     """Keep Dask's own loggers to warnings on the terminal."""
     import logging
@@ -83,7 +70,9 @@ def run(args, console) -> int:
         f"[bold]{study.title or Path(args.study).stem}[/bold]: {len(study.variants)} variants "
         f"({study.mode}), {len(study.variables)} varied values; running on {where}"
     )
-    bar = _progress(console)
+    from .output.progress import task_bar
+
+    bar = task_bar(console, transient=False)
     task = None
 
     def on_start(todo, skipped):

@@ -26,6 +26,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 __all__ = [
+    "hours_minutes",
     "KINDS",
     "Kind",
     "UnitError",
@@ -313,3 +314,12 @@ def show_length(metres, system: str = "si") -> str:
         inch = ", ".join(f"{v / 0.0254:.2f}" for v in values)
         text += f" = ({inch}) in" if many else f" ({inch} in)"
     return text
+
+
+def hours_minutes(seconds: float | None, missing: str | None = None) -> str | None:
+    """Seconds as "H:MM" (hours and minutes, to the nearest minute); `missing` for None,
+    NaN or infinity."""
+    if seconds is None or not math.isfinite(float(seconds)):
+        return missing
+    minutes = int(round(float(seconds) / 60.0))
+    return f"{minutes // 60}:{minutes % 60:02d}"

@@ -20,6 +20,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..units import hours_minutes
+
 __all__ = [
     "DPI",
     "SIZES",
@@ -135,8 +137,7 @@ def _schedule_times(schedule, t_end: float) -> np.ndarray:
 
 
 def _hm(seconds: float) -> str:
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds)
 
 
 def _figure(width: float, height: float):

@@ -14,7 +14,7 @@ import time
 
 from ..stepping import Step
 
-__all__ = ["RunProgress"]
+__all__ = ["RunProgress", "task_bar"]
 
 
 def _hm(seconds: float) -> str:
@@ -132,3 +132,18 @@ class RunProgress:
 
     def __exit__(self, *exc) -> None:
         self.close()
+
+
+def task_bar(console, transient: bool):
+    """A rich bar counting finished runs of a study or a search (description, bar, n of N,
+    elapsed time); `transient` removes it when done."""
+    from rich.progress import BarColumn, MofNCompleteColumn, Progress, TimeElapsedColumn
+
+    return Progress(
+        "[progress.description]{task.description}",
+        BarColumn(),
+        MofNCompleteColumn(),
+        TimeElapsedColumn(),
+        console=console,
+        transient=transient,
+    )

@@ -26,6 +26,7 @@ import numpy as np
 
 from ..errors import FemheatError
 from ..mesh import PartMesh
+from ..units import hours_minutes
 from .images import atomic_save
 
 __all__ = ["Scene", "RenderLog", "render_pictures", "render_faces", "pyvista_can_render"]
@@ -101,8 +102,7 @@ class RenderLog:
 
 
 def _hm(seconds: float) -> str:
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds)
 
 
 def _point_text(scene: Scene) -> str:

@@ -18,6 +18,7 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from .. import __version__
+from ..units import hours_minutes
 from .files import atomic_write_text
 
 __all__ = ["Figure", "report_html", "write_report", "estimate_rows"]
@@ -70,10 +71,7 @@ def _e(x) -> str:
 
 
 def _hm(seconds) -> str:
-    if seconds is None or not math.isfinite(float(seconds)):
-        return "-"
-    minutes = int(round(float(seconds) / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds, "-")
 
 
 def _mm(point, axes) -> str:

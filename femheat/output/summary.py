@@ -13,6 +13,7 @@ from .. import __version__
 from ..checks import checks_section
 from ..estimates import summary_section as estimates_section
 from ..run import RunResult
+from ..units import hours_minutes
 from .files import atomic_write_text
 
 __all__ = [
@@ -30,15 +31,8 @@ CAUTION = (
 )
 
 
-def hours_minutes(seconds: float | None) -> str | None:
-    """Format seconds as 'H:MM' (h:min), rounding to the nearest minute."""
-    if seconds is None or not math.isfinite(seconds):
-        return None
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
-
-
-def _num(x):
+def finite_or_none(x):
+    """A number as float, or None when it is missing, NaN or infinite (JSON has no NaN)."""
     if x is None:
         return None
     x = float(x)
@@ -63,7 +57,7 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
             "temperature_C": tw.target,
             "mode": "heating" if tw.sense > 0 else "cooling",
             "reached": tw.reached,
-            "time_s": _num(tw.time),
+            "time_s": finite_or_none(tw.time),
             "time_h_min": hours_minutes(tw.time),
             "hold_s": p.target.hold,
             "last_point": last,
@@ -76,8 +70,8 @@ def summary_dict(result: RunResult, complete: bool = True) -> dict:
             {
                 "name": name,
                 "point": [float(v) for v in p.probe_points[i]],
-                "final_C": _num(result.probes.values(result.final)[i]),
-                "time_to_target_s": _num(result.probes.crossing[i]),
+                "final_C": finite_or_none(result.probes.values(result.final)[i]),
+                "time_to_target_s": finite_or_none(result.probes.crossing[i]),
             }
         )
     e = result.energy

@@ -19,6 +19,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..output.summary import finite_or_none
+from ..units import hours_minutes
 from .design import FurnaceProgram
 from .evaluate import Evaluation, case_table
 from .search import Margin, PlanResult, keeps_limits
@@ -54,17 +56,7 @@ _PATH_KEYS = ("file", "mesh", "table_file", "from_run", "from_file")
 
 def hm(seconds: float | None) -> str:
     """Seconds as h:min ("-" for none)."""
-    if seconds is None or not math.isfinite(seconds):
-        return "-"
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
-
-
-def _num(x):
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
+    return hours_minutes(seconds, "-")
 
 
 def program_lines(program: FurnaceProgram) -> list[str]:
@@ -105,10 +97,10 @@ def _margin_dict(m: Margin) -> dict:
     return {
         "name": m.name,
         "unit": m.unit,
-        "limit": _num(m.limit),
-        "worst": _num(m.worst),
-        "margin": _num(m.margin),
-        "time_s": _num(m.time_s),
+        "limit": finite_or_none(m.limit),
+        "worst": finite_or_none(m.worst),
+        "margin": finite_or_none(m.margin),
+        "time_s": finite_or_none(m.time_s),
         "time_h_min": hm(m.time_s),
         "where": m.where,
         "ok": m.ok,
@@ -155,12 +147,12 @@ def evaluation_summary(plan, e: Evaluation) -> dict:
         "run": e.index,
         "label": e.label,
         "program": e.program.case_value(units=True),
-        "length_s": _num(length),
+        "length_s": finite_or_none(length),
         "length_h_min": hm(length),
-        "through_s": _num(e.through_s),
-        "largest_difference_K": _num(e.difference.value),
-        "largest_rate_above_C_per_h": _num(e.rate.value),
-        "hottest_C": _num(e.hottest.value),
+        "through_s": finite_or_none(e.through_s),
+        "largest_difference_K": finite_or_none(e.difference.value),
+        "largest_rate_above_C_per_h": finite_or_none(e.rate.value),
+        "hottest_C": finite_or_none(e.hottest.value),
         "keeps_limits": keeps_limits(plan, e),
         "status": e.status,
         "error": e.error,
@@ -193,7 +185,7 @@ def summary(result: PlanResult, plan_file: str = "") -> dict:
             "limit_rate_as_one_ramp": evaluation_summary(plan, result.limit_run),
             "fastest_one_ramp_keeping_limits": ref,
             "slowest_ramp": evaluation_summary(plan, result.slowest),
-            "saved_s": _num(saved),
+            "saved_s": finite_or_none(saved),
             "saved_h_min": hm(saved),
         },
         "search": {
@@ -212,7 +204,7 @@ def summary(result: PlanResult, plan_file: str = "") -> dict:
         "check_run": {
             "run": check.index,
             "steps": check.steps,
-            "through_s": _num(check.through_s),
+            "through_s": finite_or_none(check.through_s),
             "last_point_m": list(check.last_point),
             "warnings": list(check.warnings),
         },

@@ -47,6 +47,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import CaseError, FemheatError
+from ..units import hours_minutes
 from .design import Design, FurnaceProgram, constant_rate, program_of, rounded
 from .evaluate import Evaluation, Evaluator
 
@@ -58,10 +59,7 @@ _HOUR = 3600.0
 
 
 def _hm(seconds: float) -> str:
-    if not math.isfinite(seconds):
-        return "-"
-    minutes = int(round(seconds / 60.0))
-    return f"{minutes // 60}:{minutes % 60:02d}"
+    return hours_minutes(seconds, "-")
 
 
 @dataclass(frozen=True)
