@@ -461,7 +461,11 @@ def series_estimates(
         fo1 = tuple(a * t1 for a in rates)
         fo_ok = min(fo1) > ONE_TERM_LIMIT
         fo_text = ", ".join(f"{f:.3g}" for f in fo1)
-        cond1 = f"Fo = {fo_text} {'>' if fo_ok else '<='} {ONE_TERM_LIMIT:g}"
+        cond1 = (
+            f"Fo = {fo_text} > {ONE_TERM_LIMIT:g} (met)"
+            if fo_ok
+            else f"Fo = {fo_text} <= {ONE_TERM_LIMIT:g} (needs > {ONE_TERM_LIMIT:g})"
+        )
         if not linear:
             cond1 += "; " + linear_text
         one = Estimate(
